@@ -1,0 +1,7 @@
+import { runCli } from "./run-cli";
+
+const code = await runCli(process.argv.slice(2), {
+  stdout: (text) => process.stdout.write(text),
+  stderr: (text) => process.stderr.write(text),
+});
+process.exitCode = code;

@@ -1,0 +1,5 @@
+import type { CliCommand } from "./command";
+import { migrateCommand } from "./commands/migrate";
+
+/** Every CLI verb. A new command is one file in commands/ and one line here. */
+export const COMMANDS: CliCommand[] = [migrateCommand];

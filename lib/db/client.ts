@@ -1,0 +1,38 @@
+import { mkdirSync } from "node:fs";
+import { dirname } from "node:path";
+import { PrismaBetterSqlite3 } from "@prisma/adapter-better-sqlite3";
+import { PrismaPg } from "@prisma/adapter-pg";
+import { PrismaClient as SqliteClient } from "./generated/sqlite/client";
+import { PrismaClient as PostgresClient } from "./generated/postgresql/client";
+import { readEnv } from "../config/env";
+import { providerOf, sqlitePath } from "./provider";
+
+/**
+ * The database client. Both generated clients share one data model, so the PostgreSQL one
+ * is typed as the SQLite one: same models, same fields, same enums.
+ */
+export type Db = SqliteClient;
+export type DbTransaction = Parameters<Parameters<Db["$transaction"]>[0]>[0];
+
+/** SQLite waits this long for a lock before giving up, so concurrent writers queue. */
+export const SQLITE_BUSY_TIMEOUT_MS = 15_000;
+
+export function createDb(url: string): Db {
+  if (providerOf(url) === "postgresql") {
+    return new PostgresClient({ adapter: new PrismaPg({ connectionString: url }) }) as unknown as Db;
+  }
+  const path = sqlitePath(url);
+  if (path !== ":memory:") mkdirSync(dirname(path), { recursive: true });
+  return new SqliteClient({ adapter: new PrismaBetterSqlite3({ url, timeout: SQLITE_BUSY_TIMEOUT_MS }) });
+}
+
+const cache = globalThis as unknown as { phenopoolDb?: { url: string; db: Db } };
+
+/** The process-wide client for DATABASE_URL, cached on globalThis so hot reload reuses it. */
+export function getDb(): Db {
+  const { DATABASE_URL } = readEnv();
+  if (!cache.phenopoolDb || cache.phenopoolDb.url !== DATABASE_URL) {
+    cache.phenopoolDb = { url: DATABASE_URL, db: createDb(DATABASE_URL) };
+  }
+  return cache.phenopoolDb.db;
+}
