@@ -1,0 +1,33 @@
+import type { DesignMatrix } from "./design-matrix";
+
+export interface CrossProducts {
+  /** X'WX, p x p row-major. */
+  readonly xtwx: Float64Array;
+  /** X'Wy, length p. */
+  readonly xtwy: Float64Array;
+}
+
+/**
+ * Forms X'WX and X'Wy in one pass over the rows, with no per-row allocation.
+ * `weights` and `response` have one entry per row of `design`.
+ */
+export function weightedCrossProducts(design: DesignMatrix, weights: ArrayLike<number>, response: ArrayLike<number>): CrossProducts {
+  const { rows, columns, data } = design;
+  const xtwx = new Float64Array(columns * columns);
+  const xtwy = new Float64Array(columns);
+  for (let i = 0; i < rows; i += 1) {
+    const w = weights[i]!;
+    const wy = w * response[i]!;
+    const offset = i * columns;
+    for (let a = 0; a < columns; a += 1) {
+      const xa = data[offset + a]!;
+      xtwy[a] += xa * wy;
+      const wxa = w * xa;
+      for (let b = 0; b <= a; b += 1) xtwx[a * columns + b] += wxa * data[offset + b]!;
+    }
+  }
+  for (let a = 0; a < columns; a += 1) {
+    for (let b = 0; b < a; b += 1) xtwx[b * columns + a] = xtwx[a * columns + b]!;
+  }
+  return { xtwx, xtwy };
+}
