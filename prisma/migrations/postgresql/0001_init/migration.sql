@@ -94,7 +94,7 @@ CREATE TABLE "SiteYear" (
     "foodPeakSe" DOUBLE PRECISION,
     "meanSpringTempC" DOUBLE PRECISION,
     "broodCount" INTEGER,
-    "submissionId" INTEGER,
+    "submissionId" INTEGER NOT NULL,
     CONSTRAINT "SiteYear_pkey" PRIMARY KEY ("id")
 );
 
@@ -166,7 +166,8 @@ CREATE UNIQUE INDEX "ModeratorValue_moderatorId_siteId_key" ON "ModeratorValue"(
 CREATE UNIQUE INDEX "Submission_supersedesId_key" ON "Submission"("supersedesId");
 CREATE INDEX "Submission_siteId_kind_status_idx" ON "Submission"("siteId", "kind", "status");
 CREATE INDEX "Submission_sha256_idx" ON "Submission"("sha256");
-CREATE UNIQUE INDEX "SiteYear_siteId_year_key" ON "SiteYear"("siteId", "year");
+CREATE UNIQUE INDEX "SiteYear_submissionId_year_key" ON "SiteYear"("submissionId", "year");
+CREATE INDEX "SiteYear_siteId_year_idx" ON "SiteYear"("siteId", "year");
 CREATE INDEX "BroodRecord_siteId_year_idx" ON "BroodRecord"("siteId", "year");
 CREATE INDEX "BroodRecord_submissionId_idx" ON "BroodRecord"("submissionId");
 CREATE INDEX "Estimate_siteId_outcome_level_idx" ON "Estimate"("siteId", "outcome", "level");
@@ -181,7 +182,7 @@ ALTER TABLE "Submission" ADD CONSTRAINT "Submission_siteId_fkey" FOREIGN KEY ("s
 ALTER TABLE "Submission" ADD CONSTRAINT "Submission_submittedById_fkey" FOREIGN KEY ("submittedById") REFERENCES "User"("id") ON DELETE SET NULL ON UPDATE CASCADE;
 ALTER TABLE "Submission" ADD CONSTRAINT "Submission_supersedesId_fkey" FOREIGN KEY ("supersedesId") REFERENCES "Submission"("id") ON DELETE SET NULL ON UPDATE CASCADE;
 ALTER TABLE "SiteYear" ADD CONSTRAINT "SiteYear_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site"("id") ON DELETE CASCADE ON UPDATE CASCADE;
-ALTER TABLE "SiteYear" ADD CONSTRAINT "SiteYear_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission"("id") ON DELETE SET NULL ON UPDATE CASCADE;
+ALTER TABLE "SiteYear" ADD CONSTRAINT "SiteYear_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission"("id") ON DELETE CASCADE ON UPDATE CASCADE;
 ALTER TABLE "BroodRecord" ADD CONSTRAINT "BroodRecord_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site"("id") ON DELETE CASCADE ON UPDATE CASCADE;
 ALTER TABLE "BroodRecord" ADD CONSTRAINT "BroodRecord_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission"("id") ON DELETE CASCADE ON UPDATE CASCADE;
 ALTER TABLE "Estimate" ADD CONSTRAINT "Estimate_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site"("id") ON DELETE CASCADE ON UPDATE CASCADE;

@@ -90,11 +90,12 @@ CREATE TABLE "SiteYear" (
     "foodPeakSe" REAL,
     "meanSpringTempC" REAL,
     "broodCount" INTEGER,
-    "submissionId" INTEGER,
+    "submissionId" INTEGER NOT NULL,
     CONSTRAINT "SiteYear_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site" ("id") ON DELETE CASCADE ON UPDATE CASCADE,
-    CONSTRAINT "SiteYear_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission" ("id") ON DELETE SET NULL ON UPDATE CASCADE
+    CONSTRAINT "SiteYear_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission" ("id") ON DELETE CASCADE ON UPDATE CASCADE
 );
-CREATE UNIQUE INDEX "SiteYear_siteId_year_key" ON "SiteYear"("siteId", "year");
+CREATE UNIQUE INDEX "SiteYear_submissionId_year_key" ON "SiteYear"("submissionId", "year");
+CREATE INDEX "SiteYear_siteId_year_idx" ON "SiteYear"("siteId", "year");
 
 CREATE TABLE "BroodRecord" (
     "id" INTEGER NOT NULL PRIMARY KEY AUTOINCREMENT,
