@@ -34,7 +34,7 @@ export interface MigrateOptions {
 }
 
 export function defaultMigrationsRoot(): string {
-  return join(process.cwd(), "prisma", "migrations");
+  return join(/*turbopackIgnore: true*/ process.cwd(), "prisma", "migrations");
 }
 
 export function readMigrations(provider: DatabaseProvider, root = defaultMigrationsRoot()): MigrationFile[] {
