@@ -16,7 +16,7 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     await database.drop();
   });
 
-  it("writes and reads User, Species, Site, Moderator, ModeratorValue, Submission, SiteYear, BroodRecord, Estimate, Analysis, AnalysisRun, NetworkSetting", async () => {
+  it("writes and reads User, Species, Site, Moderator, ModeratorValue, Submission, SiteYear, BroodRecord, Estimate, Analysis, AnalysisRun, NetworkSetting, ColumnMapping, Job", async () => {
     const { db } = database;
     const user = await db.user.create({ data: { email: "lead@example.org", displayName: "Site Lead", role: "site_lead" } });
     const species = await db.species.create({ data: { scientificName: "Parus major", commonName: "Great tit" } });
@@ -82,6 +82,8 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     const analysis = await db.analysis.create({ data: { name: "A", specification: "{}", createdById: user.id } });
     const run = await db.analysisRun.create({ data: { analysisId: analysis.id, dataFingerprint: "c".repeat(64), result: "{}", engineVersion: "0.1.0" } });
     await db.networkSetting.create({ data: { key: "mismatch_offset_days", value: "30" } });
+    const mapping = await db.columnMapping.create({ data: { siteId: site.id, kind: "brood_records", mapping: '{"layDateDoy":"Lay date"}' } });
+    const job = await db.job.create({ data: { kind: "recompute_site_estimates", payload: "{}", siteId: site.id, progress: 0.5, startedAt: new Date() } });
 
     const readSite = await db.site.findUniqueOrThrow({
       where: { code: "TST" },
@@ -102,6 +104,8 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     expect(readRun.analysis.createdBy?.displayName).toBe("Site Lead");
     expect(readRun.createdAt).toBeInstanceOf(Date);
     expect(await db.networkSetting.findUnique({ where: { key: "mismatch_offset_days" } })).toMatchObject({ value: "30" });
+    expect(await db.columnMapping.findUnique({ where: { siteId_kind: { siteId: site.id, kind: "brood_records" } } })).toEqual(mapping);
+    expect(await db.job.findUniqueOrThrow({ where: { id: job.id } })).toMatchObject({ status: "queued", progress: 0.5, finishedAt: null });
     expect(await db.moderator.findUnique({ where: { key: "warming_rate" } })).toMatchObject({ builtIn: false, kind: "numeric" });
   });
 

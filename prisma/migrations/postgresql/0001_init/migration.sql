@@ -189,3 +189,34 @@ ALTER TABLE "Estimate" ADD CONSTRAINT "Estimate_siteId_fkey" FOREIGN KEY ("siteI
 ALTER TABLE "Estimate" ADD CONSTRAINT "Estimate_submissionId_fkey" FOREIGN KEY ("submissionId") REFERENCES "Submission"("id") ON DELETE CASCADE ON UPDATE CASCADE;
 ALTER TABLE "Analysis" ADD CONSTRAINT "Analysis_createdById_fkey" FOREIGN KEY ("createdById") REFERENCES "User"("id") ON DELETE SET NULL ON UPDATE CASCADE;
 ALTER TABLE "AnalysisRun" ADD CONSTRAINT "AnalysisRun_analysisId_fkey" FOREIGN KEY ("analysisId") REFERENCES "Analysis"("id") ON DELETE CASCADE ON UPDATE CASCADE;
+
+CREATE TYPE "JobStatus" AS ENUM ('queued', 'running', 'succeeded', 'failed', 'cancelled');
+
+CREATE TABLE "ColumnMapping" (
+    "id" SERIAL NOT NULL,
+    "siteId" INTEGER NOT NULL,
+    "kind" "SubmissionKind" NOT NULL,
+    "mapping" TEXT NOT NULL,
+    "updatedAt" TIMESTAMP(3) NOT NULL,
+    CONSTRAINT "ColumnMapping_pkey" PRIMARY KEY ("id")
+);
+CREATE UNIQUE INDEX "ColumnMapping_siteId_kind_key" ON "ColumnMapping"("siteId", "kind");
+ALTER TABLE "ColumnMapping" ADD CONSTRAINT "ColumnMapping_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site"("id") ON DELETE CASCADE ON UPDATE CASCADE;
+
+CREATE TABLE "Job" (
+    "id" SERIAL NOT NULL,
+    "kind" TEXT NOT NULL,
+    "payload" TEXT NOT NULL,
+    "status" "JobStatus" NOT NULL DEFAULT 'queued',
+    "progress" DOUBLE PRECISION NOT NULL DEFAULT 0,
+    "message" TEXT,
+    "result" TEXT,
+    "siteId" INTEGER,
+    "createdAt" TIMESTAMP(3) NOT NULL DEFAULT CURRENT_TIMESTAMP,
+    "startedAt" TIMESTAMP(3),
+    "finishedAt" TIMESTAMP(3),
+    CONSTRAINT "Job_pkey" PRIMARY KEY ("id")
+);
+CREATE INDEX "Job_status_idx" ON "Job"("status");
+CREATE INDEX "Job_siteId_kind_idx" ON "Job"("siteId", "kind");
+ALTER TABLE "Job" ADD CONSTRAINT "Job_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site"("id") ON DELETE CASCADE ON UPDATE CASCADE;

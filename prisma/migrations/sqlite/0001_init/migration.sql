@@ -162,3 +162,30 @@ CREATE TABLE "NetworkSetting" (
     "value" TEXT NOT NULL,
     "updatedAt" DATETIME NOT NULL
 );
+
+CREATE TABLE "ColumnMapping" (
+    "id" INTEGER NOT NULL PRIMARY KEY AUTOINCREMENT,
+    "siteId" INTEGER NOT NULL,
+    "kind" TEXT NOT NULL,
+    "mapping" TEXT NOT NULL,
+    "updatedAt" DATETIME NOT NULL,
+    CONSTRAINT "ColumnMapping_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site" ("id") ON DELETE CASCADE ON UPDATE CASCADE
+);
+CREATE UNIQUE INDEX "ColumnMapping_siteId_kind_key" ON "ColumnMapping"("siteId", "kind");
+
+CREATE TABLE "Job" (
+    "id" INTEGER NOT NULL PRIMARY KEY AUTOINCREMENT,
+    "kind" TEXT NOT NULL,
+    "payload" TEXT NOT NULL,
+    "status" TEXT NOT NULL DEFAULT 'queued',
+    "progress" REAL NOT NULL DEFAULT 0,
+    "message" TEXT,
+    "result" TEXT,
+    "siteId" INTEGER,
+    "createdAt" DATETIME NOT NULL DEFAULT CURRENT_TIMESTAMP,
+    "startedAt" DATETIME,
+    "finishedAt" DATETIME,
+    CONSTRAINT "Job_siteId_fkey" FOREIGN KEY ("siteId") REFERENCES "Site" ("id") ON DELETE CASCADE ON UPDATE CASCADE
+);
+CREATE INDEX "Job_status_idx" ON "Job"("status");
+CREATE INDEX "Job_siteId_kind_idx" ON "Job"("siteId", "kind");
