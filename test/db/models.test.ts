@@ -16,7 +16,7 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     await database.drop();
   });
 
-  it("writes and reads User, Species, Site, Moderator, ModeratorValue, Submission, SiteYear, BroodRecord, Estimate, Analysis, AnalysisRun, NetworkSetting, ColumnMapping, Job", async () => {
+  it("writes and reads User, Species, Site, Moderator, ModeratorValue, Submission, SiteYear, BroodRecord, Estimate, Analysis, AnalysisRun, NetworkSetting, ColumnMapping, Job, Session, ApiToken, SignInAttempt, AuditEntry", async () => {
     const { db } = database;
     const user = await db.user.create({ data: { email: "lead@example.org", displayName: "Site Lead", role: "site_lead" } });
     const species = await db.species.create({ data: { scientificName: "Parus major", commonName: "Great tit" } });
@@ -106,7 +106,26 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     expect(await db.networkSetting.findUnique({ where: { key: "mismatch_offset_days" } })).toMatchObject({ value: "30" });
     expect(await db.columnMapping.findUnique({ where: { siteId_kind: { siteId: site.id, kind: "brood_records" } } })).toEqual(mapping);
     expect(await db.job.findUniqueOrThrow({ where: { id: job.id } })).toMatchObject({ status: "queued", progress: 0.5, finishedAt: null });
+    const session = await db.session.create({ data: { tokenHash: "d".repeat(64), userId: user.id, expiresAt: new Date(Date.now() + 3600_000) } });
+    const token = await db.apiToken.create({ data: { userId: user.id, name: "uploader", tokenHash: "e".repeat(64), prefix: "pp_abc" } });
+    await db.signInAttempt.create({ data: { email: "lead@example.org", address: "127.0.0.1", succeeded: false } });
+    const audit = await db.auditEntry.create({
+      data: { actorUserId: user.id, actorLabel: "Site Lead", action: "submission.create", entityType: "Submission", entityId: String(submission.id), summary: "{}", sha256: "b".repeat(64) },
+    });
+    const withAccounts = await db.user.findUniqueOrThrow({ where: { id: user.id }, include: { sessions: true, apiTokens: true, auditEntries: true } });
+    expect(withAccounts).toMatchObject({ active: true, passwordHash: null });
+    expect(withAccounts.sessions).toEqual([session]);
+    expect(withAccounts.apiTokens).toEqual([token]);
+    expect(withAccounts.auditEntries).toEqual([audit]);
+    expect(await db.signInAttempt.count({ where: { email: "lead@example.org", succeeded: false } })).toBe(1);
     expect(await db.moderator.findUnique({ where: { key: "warming_rate" } })).toMatchObject({ builtIn: false, kind: "numeric" });
+  });
+
+  it("refuses to change an audit entry once written (append-only)", async () => {
+    const { db } = database;
+    const entry = await db.auditEntry.create({ data: { actorLabel: "system", action: "test", entityType: "Test", summary: "{}" } });
+    await expect(db.auditEntry.update({ where: { id: entry.id }, data: { summary: '{"tampered":true}' } })).rejects.toThrow(/append-only/);
+    expect((await db.auditEntry.findUniqueOrThrow({ where: { id: entry.id } })).summary).toBe("{}");
   });
 
   it("enforces unique keys and foreign keys", async () => {
