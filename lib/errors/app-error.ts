@@ -10,6 +10,7 @@ export const ERROR_CODES = [
   "unauthenticated",
   "forbidden",
   "too_large",
+  "too_many_requests",
   "cannot_compute",
   "internal",
 ] as const;
@@ -22,6 +23,7 @@ export const HTTP_STATUS: Record<ErrorCode, number> = {
   unauthenticated: 401,
   forbidden: 403,
   too_large: 413,
+  too_many_requests: 429,
   cannot_compute: 422,
   internal: 500,
 };
