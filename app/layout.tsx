@@ -2,13 +2,16 @@ import type { Metadata } from "next";
 import type { ReactNode } from "react";
 import Link from "next/link";
 import "./globals.css";
+import { currentActor } from "./_server/current-actor";
+import { signOutAction } from "./sign-in/actions";
 
 export const metadata: Metadata = {
   title: { default: "PhenoPool", template: "%s · PhenoPool" },
   description: "Pooling the fitness cost of phenological mismatch across a network of nest-box studies.",
 };
 
-export default function RootLayout({ children }: { children: ReactNode }) {
+export default async function RootLayout({ children }: { children: ReactNode }) {
+  const actor = await currentActor();
   return (
     <html lang="en">
       <body>
@@ -20,6 +23,18 @@ export default function RootLayout({ children }: { children: ReactNode }) {
             <Link href="/">Network</Link>
           </nav>
           <span className="tagline">Mismatch costs, pooled across sites and species</span>
+          {actor.kind === "user" ? (
+            <div className="account">
+              <span>{actor.label.replace(/ <.*>$/, "")} ({actor.role?.replace("_", " ")})</span>
+              <form action={signOutAction}>
+                <button type="submit" className="quiet">Sign out</button>
+              </form>
+              <form action={signOutAction}>
+                <input type="hidden" name="everywhere" value="yes" />
+                <button type="submit" className="quiet">Sign out everywhere</button>
+              </form>
+            </div>
+          ) : null}
         </header>
         <main>{children}</main>
       </body>

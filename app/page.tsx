@@ -2,10 +2,12 @@ import Link from "next/link";
 import { getDb } from "@/lib/db/client";
 import { listSiteSummaries, networkTotals } from "@/lib/network/site-summaries";
 import { formatCount, formatLatitude, formatLongitude } from "@/lib/format/numbers";
+import { requirePageActor } from "./_server/current-actor";
 
 export const dynamic = "force-dynamic";
 
 export default async function NetworkPage() {
+  await requirePageActor("network.read");
   const sites = await listSiteSummaries(getDb());
   const totals = networkTotals(sites);
   return (

@@ -15,6 +15,8 @@ export const networkSettingsSchema = z.object({
   pooled_results_visible: z.boolean().default(true),
   /** Whether site leads and viewers may read other sites' raw brood records. */
   other_sites_raw_records_visible: z.boolean().default(false),
+  /** Set by the demo seed: the sign-in page then says the data are invented and where the demo accounts are. */
+  demo_network: z.boolean().default(false),
 });
 
 export type NetworkSettings = z.infer<typeof networkSettingsSchema>;

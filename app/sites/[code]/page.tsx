@@ -5,6 +5,7 @@ import { getSiteDetail } from "@/lib/network/site-detail";
 import { formatCount, formatLatitude, formatLongitude, formatSignificant } from "@/lib/format/numbers";
 import { KIND_LABELS, LEVEL_LABELS, OUTCOME_LABELS, SCALE_LABELS } from "@/lib/format/vocabulary-labels";
 import { normalQuantileStd } from "@/lib/stats/distributions/normal";
+import { mayDo, requirePageActor } from "../../_server/current-actor";
 
 export const dynamic = "force-dynamic";
 
@@ -13,8 +14,10 @@ const Z_975 = normalQuantileStd(0.975);
 
 export default async function SitePage({ params }: { params: Promise<{ code: string }> }) {
   const { code } = await params;
+  const actor = await requirePageActor("network.read");
   const detail = await getSiteDetail(getDb(), decodeURIComponent(code));
   if (!detail) notFound();
+  const showEstimates = await mayDo(actor, "pooled_results.read", { siteId: detail.site.id });
   const { site, siteYears, estimates, broodsByYear } = detail;
   const totalBroods = broodsByYear.reduce((sum, y) => sum + y.broods, 0);
   return (
@@ -79,7 +82,9 @@ export default async function SitePage({ params }: { params: Promise<{ code: str
       )}
 
       <h2>Estimates</h2>
-      {estimates.length === 0 ? (
+      {!showEstimates ? (
+        <p className="empty">Per-site estimates are visible to the coordinator only in this network.</p>
+      ) : estimates.length === 0 ? (
         <p className="empty">No estimates yet.</p>
       ) : (
         <table className="data">
