@@ -1,0 +1,120 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import { existsSync, mkdirSync, mkdtempSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { createServer } from "node:net";
+import { chromium, type Browser, type Page } from "playwright-core";
+
+/**
+ * End-to-end harness: the production build served on loopback against its own SQLite file,
+ * driven by Debian's Chromium through playwright-core. Screenshots go to test-artifacts/e2e/.
+ */
+export const CHROMIUM = process.env.PHENOPOOL_CHROMIUM ?? "/usr/bin/chromium";
+export const ARTIFACTS = join(process.cwd(), "test-artifacts", "e2e");
+
+export interface RunningApp {
+  baseUrl: string;
+  databaseUrl: string;
+  stop: () => Promise<void>;
+}
+
+async function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const server = createServer();
+    server.listen(0, "127.0.0.1", () => {
+      const address = server.address();
+      server.close(() => (typeof address === "object" && address ? resolve(address.port) : reject(new Error("no port"))));
+    });
+  });
+}
+
+async function waitForHttp(url: string, child: ChildProcess, timeoutMs: number): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    if (child.exitCode !== null) throw new Error(`the server exited with code ${child.exitCode} before answering`);
+    try {
+      const response = await fetch(url, { redirect: "manual" });
+      if (response.status < 500) return;
+    } catch {
+      // not listening yet
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  throw new Error(`the server did not answer at ${url} within ${timeoutMs} ms`);
+}
+
+function runToEnd(command: string, args: string[], env: NodeJS.ProcessEnv): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(command, args, { env, stdio: ["ignore", "ignore", "pipe"] });
+    let stderr = "";
+    child.stderr?.on("data", (c: Buffer) => (stderr += c.toString()));
+    child.on("close", (code) => (code === 0 ? resolve() : reject(new Error(`${command} ${args.join(" ")} failed (${code}): ${stderr}`))));
+  });
+}
+
+/**
+ * Starts `next start` (the build in .next must exist: run `next build` first) on a fresh
+ * database, optionally seeded with the demo network.
+ */
+export async function startApp(options: { seedDemo: boolean }): Promise<RunningApp> {
+  if (!existsSync(join(process.cwd(), ".next", "BUILD_ID"))) throw new Error("no production build: run `npx next build` before the end-to-end tests");
+  const dir = mkdtempSync(join(tmpdir(), "phenopool-e2e-"));
+  const databaseUrl = `file:${join(dir, "e2e.db")}`;
+  const env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: databaseUrl, NODE_ENV: "production" as const };
+  if (options.seedDemo) await runToEnd(process.execPath, ["--import", "tsx", "seed/index.ts"], env);
+  const port = await freePort();
+  const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "--hostname", "127.0.0.1", "--port", String(port)], { env, stdio: ["ignore", "pipe", "pipe"] });
+  let output = "";
+  child.stdout?.on("data", (c: Buffer) => (output += c.toString()));
+  child.stderr?.on("data", (c: Buffer) => (output += c.toString()));
+  const baseUrl = `http://127.0.0.1:${port}`;
+  try {
+    await waitForHttp(`${baseUrl}/sign-in`, child, 60_000);
+  } catch (error) {
+    child.kill("SIGKILL");
+    throw new Error(`${(error as Error).message}\n${output}`);
+  }
+  return {
+    baseUrl,
+    databaseUrl,
+    stop: async () => {
+      if (child.exitCode === null) {
+        child.kill("SIGTERM");
+        await new Promise((r) => child.once("close", r));
+      }
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+/** Playwright gives each launch a fresh, empty profile of its own. */
+export async function launchBrowser(): Promise<Browser> {
+  return chromium.launch({
+    executablePath: CHROMIUM,
+    headless: true,
+    args: [
+      "--no-sandbox",
+      "--disable-gpu",
+      "--disable-quic",
+      "--no-first-run",
+      "--disable-background-networking",
+      "--disable-component-update",
+      "--disable-sync",
+    ],
+  });
+}
+
+/** Collects console errors and uncaught page errors, so a test can assert there were none. */
+export function watchConsole(page: Page): string[] {
+  const errors: string[] = [];
+  page.on("console", (message) => {
+    if (message.type() === "error") errors.push(message.text());
+  });
+  page.on("pageerror", (error) => errors.push(error.message));
+  return errors;
+}
+
+export async function screenshot(page: Page, name: string): Promise<void> {
+  mkdirSync(ARTIFACTS, { recursive: true });
+  await page.screenshot({ path: join(ARTIFACTS, `${name}.png`), fullPage: true });
+}
