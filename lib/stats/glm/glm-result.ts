@@ -1,0 +1,60 @@
+import type { StatWarning } from "../warnings";
+
+/** How the coefficients were obtained: the plain likelihood, or Firth's penalised likelihood. */
+export type GlmEstimator = "maximum_likelihood" | "firth_penalised";
+
+/** Standard errors from the Fisher information alone ("fixed", dispersion 1) or scaled by Pearson's chi-square / (n - p) (quasi-likelihood). */
+export type DispersionMethod = "fixed" | "pearson";
+
+export interface SeparationDiagnosis {
+  /** "complete": every observation is predicted perfectly in the limit; "quasi_complete": some are. */
+  readonly kind: "none" | "complete" | "quasi_complete";
+  /** Observations whose fitted mean is at the edge (0 or 1; 0 for counts) once the coefficients diverge. */
+  readonly boundaryObservations: number;
+  /** Coefficients that keep moving along the direction of divergence (empty when kind is "none"). */
+  readonly divergingCoefficients: readonly string[];
+}
+
+/** One fitted generalised linear model. Arrays follow `coefficientNames`. */
+export interface GlmResult {
+  readonly family: "binomial" | "poisson";
+  readonly link: "logit" | "log";
+  readonly estimator: GlmEstimator;
+  readonly coefficientNames: readonly string[];
+  readonly coefficients: readonly number[];
+  readonly standardErrors: readonly number[];
+  /** Wald statistics: z when the dispersion is fixed, t (on residualDf) when it is estimated. */
+  readonly statistics: readonly number[];
+  readonly statisticName: "z" | "t";
+  readonly pValues: readonly number[];
+  /** Covariance of the coefficients (inverse Fisher information times the dispersion), p x p row-major. */
+  readonly covariance: readonly number[];
+  readonly dispersion: number;
+  readonly dispersionMethod: DispersionMethod;
+  readonly pearsonChiSquare: number;
+  readonly deviance: number;
+  readonly nullDeviance: number;
+  readonly residualDf: number;
+  readonly nullDf: number;
+  /** Null for a quasi-likelihood fit (dispersion "pearson"), which has no likelihood. */
+  readonly logLikelihood: number | null;
+  readonly aic: number | null;
+  /** Firth fits: log-likelihood + 0.5 log det(information). */
+  readonly penalisedLogLikelihood: number | null;
+  readonly n: number;
+  readonly converged: boolean;
+  readonly iterations: number;
+  readonly stepHalvings: number;
+  readonly separation: SeparationDiagnosis;
+  readonly warnings: readonly StatWarning[];
+}
+
+/**
+ * The estimate and standard error of one named coefficient.
+ * Throws Error when the model has no such coefficient.
+ */
+export function coefficientOf(result: GlmResult, name: string): { estimate: number; standardError: number } {
+  const index = result.coefficientNames.indexOf(name);
+  if (index < 0) throw new Error(`the model has no coefficient ${name} (it has ${result.coefficientNames.join(", ")})`);
+  return { estimate: result.coefficients[index]!, standardError: result.standardErrors[index]! };
+}

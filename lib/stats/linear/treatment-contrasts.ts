@@ -1,0 +1,48 @@
+import { designMatrix, type DesignMatrix } from "./design-matrix";
+
+/**
+ * A design with an intercept, a factor in treatment contrasts, and numeric covariates:
+ * columns intercept, factor[level2], ..., factor[levelK], covariate1, covariate2, ...
+ * The first level (in the order given, or sorted ascending when `levels` is omitted) is the
+ * reference; each other level gets a 0/1 dummy column.
+ *
+ * Constraints: `factor` and every covariate have the same length n >= 1; every factor value is
+ * among `levels`. Throws Error on a length mismatch or an unknown level.
+ * Example: factorDesign("year", [2001, 2002, 2001], { c: [0.5, -1, -0.5] }) gives columns
+ * intercept, year[2002], c with rows [1,0,0.5], [1,1,-1], [1,0,-0.5].
+ */
+export function factorDesign<Level extends string | number>(
+  factorName: string,
+  factor: ArrayLike<Level>,
+  covariates: Readonly<Record<string, ArrayLike<number>>>,
+  levels?: readonly Level[],
+): { design: DesignMatrix; levels: readonly Level[] } {
+  const rows = factor.length;
+  const orderedLevels = levels ?? [...new Set(Array.prototype.slice.call(factor) as Level[])].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+  const levelIndex = new Map<Level, number>();
+  orderedLevels.forEach((level, index) => levelIndex.set(level, index));
+  const covariateNames = Object.keys(covariates);
+  const names = ["intercept", ...orderedLevels.slice(1).map((level) => `${factorName}[${level}]`), ...covariateNames];
+  const columns = names.length;
+  const data = new Float64Array(rows * columns);
+  const covariateStart = orderedLevels.length;
+  const covariateValues = covariateNames.map((name) => {
+    if (covariates[name]!.length !== rows) throw new Error(`covariate ${name} has ${covariates[name]!.length} values, factor has ${rows}`);
+    return Float64Array.from(covariates[name]!);
+  });
+  let previousLevel: Level | undefined;
+  let previousIndex = -1;
+  for (let i = 0; i < rows; i += 1) {
+    const offset = i * columns;
+    data[offset] = 1;
+    // Rows usually come grouped by level: reuse the last lookup.
+    const level = factor[i]!;
+    const index = level === previousLevel ? previousIndex : levelIndex.get(level);
+    if (index === undefined) throw new Error(`${factorName} value ${String(level)} is not among the levels`);
+    previousLevel = level;
+    previousIndex = index;
+    if (index > 0) data[offset + index] = 1;
+    for (let k = 0; k < covariateValues.length; k += 1) data[offset + covariateStart + k] = covariateValues[k]![i]!;
+  }
+  return { design: designMatrix(rows, names, data), levels: orderedLevels };
+}
