@@ -2,6 +2,19 @@ import { z } from "zod";
 
 /** The embedded database used when DATABASE_URL is not set. */
 export const DEFAULT_DATABASE_URL = "file:./data/phenopool.db";
+/** Largest upload accepted by default: 100 MiB. */
+export const DEFAULT_MAX_UPLOAD_BYTES = 100 * 1024 * 1024;
+/** Most data rows an upload may have by default. */
+export const DEFAULT_MAX_UPLOAD_ROWS = 2_000_000;
+
+/** A positive whole number given as text (e.g. "104857600"). */
+const positiveWholeNumber = (name: string) =>
+  z
+    .string()
+    .trim()
+    .regex(/^\d+$/, `${name} must be a whole number`)
+    .transform(Number)
+    .refine((n) => n > 0 && Number.isSafeInteger(n), `${name} must be a positive whole number`);
 
 const envSchema = z.object({
   DATABASE_URL: z
@@ -12,6 +25,10 @@ const envSchema = z.object({
     .refine((url) => /^(file:|postgres:\/\/|postgresql:\/\/)/.test(url), {
       message: "DATABASE_URL must start with file: (SQLite) or postgres:// / postgresql:// (PostgreSQL)",
     }),
+  /** Uploads larger than this many bytes are refused while they stream in. */
+  PHENOPOOL_MAX_UPLOAD_BYTES: positiveWholeNumber("PHENOPOOL_MAX_UPLOAD_BYTES").default(DEFAULT_MAX_UPLOAD_BYTES),
+  /** Uploads with more data rows than this are refused. */
+  PHENOPOOL_MAX_UPLOAD_ROWS: positiveWholeNumber("PHENOPOOL_MAX_UPLOAD_ROWS").default(DEFAULT_MAX_UPLOAD_ROWS),
 });
 
 export type AppEnv = z.infer<typeof envSchema>;
@@ -20,7 +37,11 @@ export type AppEnv = z.infer<typeof envSchema>;
  * Parses the process environment once. Throws with every problem named when a variable is malformed.
  */
 export function readEnv(source: NodeJS.ProcessEnv = process.env): AppEnv {
-  const parsed = envSchema.safeParse({ DATABASE_URL: source.DATABASE_URL || undefined });
+  const parsed = envSchema.safeParse({
+    DATABASE_URL: source.DATABASE_URL || undefined,
+    PHENOPOOL_MAX_UPLOAD_BYTES: source.PHENOPOOL_MAX_UPLOAD_BYTES || undefined,
+    PHENOPOOL_MAX_UPLOAD_ROWS: source.PHENOPOOL_MAX_UPLOAD_ROWS || undefined,
+  });
   if (!parsed.success) {
     const problems = parsed.error.issues.map((issue) => `${issue.path.join(".")}: ${issue.message}`);
     throw new Error(`Invalid environment: ${problems.join("; ")}`);

@@ -40,6 +40,27 @@ export function validateRows<S extends z.ZodType>(schema: S, input: readonly unk
 }
 
 /**
+ * Remembers the natural key of each row seen so far and tells, for a repeated key, the row it
+ * first appeared in. Used by the in-memory check below and by uploads that stream row by row.
+ */
+export class DuplicateKeyTracker<T> {
+  private readonly firstSeen = new Map<string, number>();
+
+  constructor(private readonly keyOf: (row: T) => string) {}
+
+  /** The row number where `row`'s key was first seen, or null the first time (then it is recorded). */
+  seen(row: T, rowNumber: number): number | null {
+    const key = this.keyOf(row);
+    const first = this.firstSeen.get(key);
+    if (first === undefined) {
+      this.firstSeen.set(key, rowNumber);
+      return null;
+    }
+    return first;
+  }
+}
+
+/**
  * Reports rows whose key repeats an earlier row's: `describe` words the clash for the user,
  * e.g. "female F-203 has two broods in 2011". `validation` is the output of validateRows, so
  * errors name the rows' places in the file.
@@ -51,14 +72,12 @@ export function findDuplicateKeys<T>(
   field: string,
   file?: string,
 ): FieldError[] {
-  const firstSeen = new Map<string, number>();
+  const tracker = new DuplicateKeyTracker(keyOf);
   const errors: FieldError[] = [];
   validation.rows.forEach((row, index) => {
     const fileRow = validation.rowNumbers[index]!;
-    const key = keyOf(row);
-    const first = firstSeen.get(key);
-    if (first === undefined) firstSeen.set(key, fileRow);
-    else errors.push({ row: fileRow, field, message: describe(row, first), ...(file ? { file } : {}) });
+    const first = tracker.seen(row, fileRow);
+    if (first !== null) errors.push({ row: fileRow, field, message: describe(row, first), ...(file ? { file } : {}) });
   });
   return errors;
 }
