@@ -1,6 +1,10 @@
 import type { CliCommand } from "./command";
 import { migrateCommand } from "./commands/migrate";
 import { backupCommand, restoreCommand } from "./commands/backup";
+import { exportCommand } from "./commands/export";
+import { importPackageCommand } from "./commands/import-package";
+import { poolCommand } from "./commands/pool";
+import { uploadCommand } from "./commands/upload";
 
 /** Every CLI verb. A new command is one file in commands/ and one line here. */
-export const COMMANDS: CliCommand[] = [migrateCommand, backupCommand, restoreCommand];
+export const COMMANDS: CliCommand[] = [migrateCommand, backupCommand, restoreCommand, exportCommand, importPackageCommand, poolCommand, uploadCommand];

@@ -1,0 +1,7 @@
+import type { JobHandlers } from "./job-runner";
+import { RECOMPUTE_SITE_ESTIMATES, recomputeSiteEstimatesJob } from "./recompute-site-estimates-job";
+
+/** Every kind of background job and its handler. */
+export const JOB_HANDLERS: JobHandlers = {
+  [RECOMPUTE_SITE_ESTIMATES]: recomputeSiteEstimatesJob,
+};

@@ -1,0 +1,70 @@
+import { join } from "node:path";
+import { pathToFileURL } from "node:url";
+import { expect } from "vitest";
+import type { RouteDefinition } from "@/lib/api/route-definition";
+import type { RouteHandler } from "@/lib/api/handle-route";
+import { errorBodySchema } from "@/lib/api/schemas";
+
+/**
+ * Calls a route handler the way Next.js does (a Request and a params promise), by importing the
+ * app/api/v1/.../route.ts file that serves the registry entry, and checks the reply against the
+ * registry: a success has the route's status and (for JSON) parses with its response schema; an
+ * error has the AppError body shape. Every call is counted, so a suite can tell which routes it
+ * exercised.
+ */
+export interface CallOptions {
+  params?: Record<string, string>;
+  /** Query parameters; an array repeats the parameter. */
+  query?: Record<string, string | string[]>;
+  /** A JSON body (sent with Content-Type application/json). */
+  json?: unknown;
+  /** A raw body with its own content type. */
+  raw?: { body: string; contentType: string };
+}
+
+export interface CallResult {
+  status: number;
+  contentType: string;
+  /** Parsed JSON (validated), or null for a non-JSON reply. */
+  body: any; // eslint-disable-line @typescript-eslint/no-explicit-any
+  text: string;
+  bytes: Uint8Array;
+}
+
+export const calls: { route: RouteDefinition; status: number }[] = [];
+
+/** app/api/v1/sites/{code} -> app/api/v1/sites/[code]/route.ts */
+export function routeFileOf(path: string): string {
+  return join(process.cwd(), "app", ...path.replace(/^\//, "").split("/").map((segment) => segment.replace(/^\{(.+)\}$/, "[$1]")), "route.ts");
+}
+
+export async function callRoute(route: RouteDefinition, options: CallOptions = {}): Promise<CallResult> {
+  const module = (await import(pathToFileURL(routeFileOf(route.path)).href)) as Record<string, RouteHandler | undefined>;
+  const handler = module[route.method];
+  if (!handler) throw new Error(`${routeFileOf(route.path)} exports no ${route.method}`);
+  let path = route.path;
+  for (const [name, value] of Object.entries(options.params ?? {})) path = path.replace(`{${name}}`, encodeURIComponent(value));
+  const url = new URL(`http://localhost${path}`);
+  for (const [name, value] of Object.entries(options.query ?? {})) for (const v of [value].flat()) url.searchParams.append(name, v);
+  const init: RequestInit = { method: route.method };
+  if (options.json !== undefined) init.body = JSON.stringify(options.json);
+  if (options.raw) init.body = options.raw.body;
+  if (init.body !== undefined) init.headers = { "content-type": options.raw?.contentType ?? "application/json" };
+  const response = await handler(new Request(url, init), { params: Promise.resolve(options.params ?? {}) });
+  calls.push({ route, status: response.status });
+  const bytes = new Uint8Array(await response.arrayBuffer());
+  const text = new TextDecoder().decode(bytes);
+  const contentType = response.headers.get("content-type") ?? "";
+  let body = null;
+  if (contentType.startsWith("application/json")) {
+    const json: unknown = JSON.parse(text);
+    if (response.status < 400) {
+      expect([route.response.status, 200], `${route.method} ${route.path} status`).toContain(response.status);
+      if (route.response.json) body = route.response.json.parse(json);
+      else throw new Error(`${route.method} ${route.path} replied JSON, which its registry entry does not declare`);
+    } else body = errorBodySchema.parse(json);
+  } else if (response.status < 400) {
+    expect(Object.keys(route.response.otherContent ?? {}).some((type) => contentType.startsWith(type)), `${route.method} ${route.path}: ${contentType} is declared`).toBe(true);
+  }
+  return { status: response.status, contentType, body, text, bytes };
+}
