@@ -4,6 +4,7 @@
  * Loads the simulated demo network into the database named by DATABASE_URL (migrating it first).
  * Exit codes: 0 loaded or skipped, 2 refused or bad arguments, 1 unexpected failure.
  */
+import { existsSync } from "node:fs";
 import { readEnv } from "../lib/config/env";
 import { redactUrl } from "../lib/db/provider";
 import { toAppError } from "../lib/errors/app-error";
@@ -34,6 +35,11 @@ async function main(argv: readonly string[]): Promise<number> {
   });
   if (result.status === "skipped") {
     process.stdout.write(`${where} already holds ${result.siteCount} site${result.siteCount === 1 ? "" : "s"}; left as it is (--if-empty).\n`);
+    // The demo start runs this every time: say again how to sign in, when the accounts file is there.
+    if (existsSync(DEFAULT_ACCOUNTS_PATH)) {
+      const file = readAccountsFile(DEFAULT_ACCOUNTS_PATH);
+      process.stdout.write(`Demo accounts written when the demo network was loaded (seed ${file.seed}):\n${formatAccounts(file.accounts)}\n`);
+    }
     return 0;
   }
   const { summary, timings } = result;
