@@ -5,6 +5,9 @@ import { exportCommand } from "./commands/export";
 import { importPackageCommand } from "./commands/import-package";
 import { poolCommand } from "./commands/pool";
 import { uploadCommand } from "./commands/upload";
+import { estimateCommand } from "./commands/estimate";
+import { peakCommand } from "./commands/peak";
+import { warmingCommand } from "./commands/warming";
 
 /** Every CLI verb. A new command is one file in commands/ and one line here. */
-export const COMMANDS: CliCommand[] = [migrateCommand, backupCommand, restoreCommand, exportCommand, importPackageCommand, poolCommand, uploadCommand];
+export const COMMANDS: CliCommand[] = [migrateCommand, backupCommand, restoreCommand, exportCommand, importPackageCommand, poolCommand, uploadCommand, estimateCommand, peakCommand, warmingCommand];

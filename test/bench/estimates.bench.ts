@@ -28,7 +28,7 @@ function bernoulli(random: RandomStream, p: number): number {
 }
 
 /** One simulated site: broods with a quadratic mismatch effect on failure and recruitment. */
-export function benchmarkSite(seed: number, years: number, broodsPerYear: number): { broods: BroodForEstimates[]; peaks: Map<number, number> } {
+function benchmarkSite(seed: number, years: number, broodsPerYear: number): { broods: BroodForEstimates[]; peaks: Map<number, number> } {
   const random = createRandomStream(seed);
   const broods: BroodForEstimates[] = [];
   const peaks = new Map<number, number>();

@@ -1,0 +1,11 @@
+/**
+ * Runs every benchmark in order (npm run bench). Each benchmark is one file exporting an async
+ * function that prints its own table; add a line here for a new one.
+ */
+import { runDemoNetworkBenchmark } from "./demo-network.bench";
+import { runEstimatesBenchmark } from "./estimates.bench";
+import { runPoolBenchmark } from "./pool.bench";
+
+const BENCHMARKS: Array<() => Promise<void>> = [runDemoNetworkBenchmark, runEstimatesBenchmark, runPoolBenchmark];
+
+for (const benchmark of BENCHMARKS) await benchmark();
