@@ -6,7 +6,7 @@ import { selectAnalysisDataset, type AnalysisDataset } from "./analysis-dataset"
 import { dataFingerprint } from "./data-fingerprint";
 import { ENGINE_VERSION } from "./engine-version";
 import { fitAnalysis } from "./fit-analysis";
-import { metaResultJson } from "./meta-result-json";
+import { metaResultToJson } from "../stats/meta/result-json";
 import type { AnalysisSpecification } from "./specification";
 
 /** A stored run as the API, CLI and pages show it. */
@@ -95,7 +95,7 @@ export async function runAnalysis(db: Db, analysisId: number, _actor: Actor): Pr
     data: {
       analysisId,
       dataFingerprint: dataFingerprint(dataset),
-      result: JSON.stringify(storedResult(spec, dataset, metaResultJson(fit))),
+      result: JSON.stringify(storedResult(spec, dataset, metaResultToJson(fit))),
       engineVersion: ENGINE_VERSION,
     },
   });

@@ -45,9 +45,13 @@ export function handleRoute<D extends RouteDefinition>(definition: D, handler: (
       let body: unknown;
       let bodyText: string | undefined;
       if (definition.body && !(definition.multipart && isMultipart(request))) {
-        const read = await readJsonBody(request);
-        bodyText = read.text;
-        body = parseBody(read.value, definition.body);
+        if (definition.bodyOptional && !request.headers.get("content-type") && !request.body) {
+          body = parseBody({}, definition.body);
+        } else {
+          const read = await readJsonBody(request);
+          bodyText = read.text;
+          body = parseBody(read.value, definition.body);
+        }
       }
       const result = await handler({ request, actor, params, query, body: body as Parsed<D["body"]>, bodyText });
       if (result instanceof Response) return result;

@@ -4,6 +4,8 @@ import { zodFieldErrors } from "./zod-field-errors";
 
 /** The largest JSON body the API reads (a brood-record submission of ~200 000 rows fits). */
 export const MAX_JSON_BODY_BYTES = 64 * 1024 * 1024;
+/** The largest form (file upload) the API reads; the upload's own limits are checked after. */
+export const MAX_FORM_BODY_BYTES = 512 * 1024 * 1024;
 
 function unwrap(schema: z.ZodType): z.ZodType {
   let current = schema;
@@ -75,4 +77,15 @@ export function parseBody<S extends z.ZodType>(value: unknown, schema: S): z.out
   const parsed = schema.safeParse(value);
   if (!parsed.success) throw new AppError("invalid_input", "the request body is not valid", zodFieldErrors(parsed.error.issues));
   return parsed.data;
+}
+
+/** A multipart/form-data body; a malformed one is invalid_input, not a server error. */
+export async function readFormData(request: Request): Promise<FormData> {
+  const declared = Number(request.headers.get("content-length") ?? "0");
+  if (declared > MAX_FORM_BODY_BYTES) throw new AppError("too_large", `the upload is ${declared} bytes; the limit is ${MAX_FORM_BODY_BYTES}`);
+  try {
+    return await request.formData();
+  } catch (error) {
+    throw new AppError("invalid_input", "the form could not be read as multipart/form-data", [{ field: "(body)", message: (error as Error).message }]);
+  }
 }

@@ -21,6 +21,8 @@ export interface RouteDefinition {
   query?: z.ZodObject;
   /** A JSON request body. */
   body?: z.ZodType;
+  /** The body may be left out; it is then read as {}. */
+  bodyOptional?: boolean;
   /** Also accepts multipart/form-data with these fields (a file upload); the handler reads the form. */
   multipart?: { schema: z.ZodObject; description: string };
   response: {

@@ -5,7 +5,9 @@ import { siteCodeSchema, siteInputSchema } from "../network/site-input";
 import { moderatorInputSchema, moderatorKeySchema, moderatorValueInputSchema } from "../network/moderator-input";
 import { broodRecordFilterSchema, estimateFilterSchema, pageSchema } from "../network/record-filters";
 import { submissionFilterSchema } from "../submissions/list-submissions";
+import { restoreSubmissionRequestSchema } from "../submissions/restore-submission";
 import { jsonSubmissionSchema } from "../submissions/submit-json-rows";
+import { uploadFormSchema } from "../submissions/upload-form";
 import { analysisSpecificationSchema } from "../analyses/specification";
 
 /**
@@ -13,7 +15,9 @@ import { analysisSpecificationSchema } from "../analyses/specification";
  * these (handleRoute), the OpenAPI document lists exactly these, and a test checks that the route
  * files on disk and this list agree.
  */
-const id = (what: string) => z.coerce.number().int(`${what} id must be a whole number`).positive(`${what} id must be positive`);
+/** Database ids are 32-bit integers on both engines. */
+const id = (what: string) =>
+  z.coerce.number().int(`${what} id must be a whole number`).positive(`${what} id must be positive`).max(2_147_483_647, `no ${what} has so large an id`);
 const siteParams = z.object({ code: siteCodeSchema });
 const exportFormat = { format: z.enum(["csv", "json"]).default("csv").describe("csv (default) or json.") };
 
@@ -101,12 +105,13 @@ export const apiRoutes = {
     method: "POST",
     path: "/api/v1/submissions",
     tag: "submissions",
-    summary: "Submit a site's rows as JSON; written whole or not at all, superseding the current submission of the kind",
+    summary: "Submit a site's file (multipart upload) or rows (JSON); written whole or not at all, superseding the current submission of the kind",
     description:
-      "Every row is validated; one bad row refuses the whole submission with a field error per problem (row, field, value, reason). Rows identical to the current submission are recognised and not stored again (HTTP 200, unchanged: true).",
+      "Every row is validated; one bad row refuses the whole submission with a field error per problem (file, row, column, value, reason). Content identical to the current submission is recognised and not stored again (HTTP 200, unchanged: true).",
     body: jsonSubmissionSchema,
+    multipart: { schema: uploadFormSchema, description: "A file upload: the file in 'file', the other fields as text (mapping as JSON)." },
     response: { status: 201, description: "The stored submission.", json: out.submissionWriteResultSchema },
-    errors: ["not_found", "too_large"],
+    errors: ["not_found", "conflict", "too_large"],
   }),
   getSubmission: defineRoute({
     operationId: "getSubmission",
@@ -117,6 +122,18 @@ export const apiRoutes = {
     params: z.object({ id: id("submission") }),
     response: { status: 200, description: "The submission.", json: out.submissionSchema },
     errors: ["not_found"],
+  }),
+  restoreSubmission: defineRoute({
+    operationId: "restoreSubmission",
+    method: "POST",
+    path: "/api/v1/submissions/{id}/restore",
+    tag: "submissions",
+    summary: "Make an earlier (superseded) submission the site's current one again, as a new submission copying its rows",
+    params: z.object({ id: id("submission") }),
+    body: restoreSubmissionRequestSchema.pick({ expectedCurrentSubmissionId: true }),
+    bodyOptional: true,
+    response: { status: 201, description: "The restore.", json: out.restoreResultSchema },
+    errors: ["not_found", "conflict"],
   }),
   listBroodRecords: defineRoute({
     operationId: "listBroodRecords",

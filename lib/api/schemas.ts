@@ -108,6 +108,28 @@ export const submissionWriteResultSchema = z.object({
   submission: submissionSchema,
   supersededId: z.number().int().nullable().describe("The submission this one replaced as the site's current one of its kind."),
   unchanged: z.boolean().describe("True when the rows equal the current submission's: nothing was written (HTTP 200 instead of 201)."),
+  recomputeJobId: z.number().int().nullable().describe("The queued recomputation of the site's estimates, if the submission calls for one."),
+});
+
+export const jobSchema = z.object({
+  id: z.number().int(),
+  kind: z.string(),
+  status: z.enum(["queued", "running", "succeeded", "failed", "cancelled"]),
+  progress: z.number().min(0).max(1),
+  message: z.string().nullable(),
+  result: z.unknown(),
+  siteId: z.number().int().nullable(),
+  createdAt: timestamp,
+  startedAt: timestamp.nullable(),
+  finishedAt: timestamp.nullable(),
+});
+
+export const restoreResultSchema = z.object({
+  submissionId: z.number().int().describe("The new current submission: a copy of the restored one's rows."),
+  restoredFromId: z.number().int(),
+  supersededId: z.number().int().nullable(),
+  rowCount: count,
+  job: jobSchema.nullable().describe("The queued recomputation of the site's estimates, if any."),
 });
 
 export const broodRecordSchema = z.object({
@@ -218,6 +240,8 @@ export const RESPONSE_COMPONENTS: Record<string, z.ZodType> = {
   Submission: submissionSchema,
   SubmissionList: submissionListSchema,
   SubmissionWriteResult: submissionWriteResultSchema,
+  Job: jobSchema,
+  RestoreResult: restoreResultSchema,
   BroodRecord: broodRecordSchema,
   BroodRecordPage: broodRecordPageSchema,
   Estimate: estimateSchema,

@@ -2,6 +2,7 @@ import type { BroodRecordListItem } from "../network/list-brood-records";
 import type { EstimateListItem } from "../network/list-estimates";
 import type { AnalysisRunView } from "../analyses/run-analysis";
 import type { AnalysisStudy } from "../analyses/analysis-dataset";
+import type { MetaResultJson } from "../stats/meta/result-json";
 import { toCsv, type CsvColumn } from "./csv";
 
 /** Estimates as CSV: the same fields, in the same order, as the JSON export. */
@@ -41,15 +42,7 @@ export const BROOD_RECORD_COLUMNS: readonly CsvColumn<BroodRecordListItem>[] = [
 export const estimatesCsv = (rows: readonly EstimateListItem[]) => toCsv(ESTIMATE_COLUMNS, rows);
 export const broodRecordsCsv = (rows: readonly BroodRecordListItem[]) => toCsv(BROOD_RECORD_COLUMNS, rows);
 
-interface StoredCoefficient {
-  term: string;
-  estimate: number;
-  standardError: number;
-  statistic: number;
-  pValue: number;
-  ciLower: number;
-  ciUpper: number;
-}
+type StoredCoefficient = MetaResultJson["coefficients"][number];
 
 type StoredStudy = Pick<AnalysisStudy, "estimateId" | "siteCode" | "species" | "year" | "value" | "standardError" | "n" | "moderators">;
 
@@ -65,22 +58,23 @@ function storedPart<T>(run: AnalysisRunView, read: (result: Record<string, unkno
  * on every row so the file stands alone.
  */
 export function analysisCoefficientsCsv(run: AnalysisRunView): string {
-  const fit = run.result.fit as { method?: { method?: string }; test?: { test?: string }; confidenceLevel?: number; k?: number; coefficients?: unknown };
+  const fit = run.result.fit as Partial<MetaResultJson> | undefined;
   const coefficients = storedPart<StoredCoefficient[]>(run, () => fit?.coefficients, "coefficients");
+  const model = fit?.model;
   return toCsv<StoredCoefficient>(
     [
       { header: "runId", value: () => run.id },
       { header: "term", value: (c) => c.term },
       { header: "estimate", value: (c) => c.estimate },
-      { header: "standardError", value: (c) => c.standardError },
+      { header: "standardError", value: (c) => c.se },
       { header: "statistic", value: (c) => c.statistic },
-      { header: "pValue", value: (c) => c.pValue },
-      { header: "ciLower", value: (c) => c.ciLower },
-      { header: "ciUpper", value: (c) => c.ciUpper },
-      { header: "confidenceLevel", value: () => fit.confidenceLevel ?? null },
-      { header: "tau2Method", value: () => fit.method?.method ?? null },
-      { header: "test", value: () => fit.test?.test ?? null },
-      { header: "k", value: () => fit.k ?? null },
+      { header: "pValue", value: (c) => c.p_value },
+      { header: "ciLower", value: (c) => c.ci_lower },
+      { header: "ciUpper", value: (c) => c.ci_upper },
+      { header: "confidenceLevel", value: () => model?.confidence_level ?? null },
+      { header: "tau2Method", value: () => model?.method ?? null },
+      { header: "test", value: () => model?.test ?? null },
+      { header: "k", value: () => model?.k ?? null },
       { header: "dataFingerprint", value: () => run.dataFingerprint },
       { header: "engineVersion", value: () => run.engineVersion },
     ],

@@ -216,3 +216,20 @@ export function detectDelimiter(sample: string): Delimiter {
   }
   return best.delimiter;
 }
+
+/** A record of a whole text split at once: its cells, the line it starts on, quoting problems. */
+export interface TextRecord {
+  cells: string[];
+  line: number;
+  issues: QuotingIssue[] | null;
+}
+
+/** Splits a whole text (already in memory) into records; see DelimitedTokenizer for the rules. */
+export function splitDelimitedText(text: string, delimiter: Delimiter): TextRecord[] {
+  const records: TextRecord[] = [];
+  const tokenizer = new DelimitedTokenizer(delimiter);
+  const onRecord: RecordHandler = (cells, line, issues) => records.push({ cells, line, issues });
+  tokenizer.push(text, onRecord);
+  tokenizer.end(onRecord);
+  return records;
+}

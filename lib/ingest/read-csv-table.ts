@@ -8,8 +8,8 @@
  * record spans lines), as in FieldError.
  */
 import { readFileSync } from "node:fs";
-import Papa from "papaparse";
 import { AppError, type FieldError } from "../errors/app-error";
+import { splitDelimitedText, type Delimiter } from "./delimited-tokenizer";
 import { isEmptyCell, readNumber } from "./parse-cell";
 
 export interface CsvTable {
@@ -45,16 +45,21 @@ export function readCsvTable(path: string, delimiter = ","): CsvTable {
     throw new AppError("invalid_input", `cannot read ${path}: ${reason}`, [{ field: "file", file: path, message: reason }]);
   }
   if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
-  const parsed = Papa.parse<string[]>(text, { delimiter, skipEmptyLines: "greedy" });
-  const quoting = parsed.errors.filter((e) => e.type === "Quotes");
-  if (quoting.length > 0) {
-    throw invalid(
-      path,
-      "unbalanced quotes",
-      quoting.map((e) => ({ field: "file", file: path, row: e.row === undefined ? undefined : e.row, message: e.message })),
-    );
-  }
-  const [headingRow, ...records] = parsed.data;
+  // Records whose cells are all blank are skipped, as blank lines are.
+  const parsed = splitDelimitedText(text, delimiter as Delimiter).filter((r) => r.issues !== null || r.cells.some((cell) => cell.trim() !== ""));
+  const quoting = parsed.flatMap((record, index) =>
+    (record.issues ?? []).map((issue) => ({
+      field: "file",
+      file: path,
+      ...(index > 0 ? { row: index } : {}),
+      message:
+        issue.kind === "unclosed_quote"
+          ? `a quoted cell opened on line ${issue.line} is never closed`
+          : `line ${issue.line}: text follows the closing quote of a quoted cell`,
+    })),
+  );
+  if (quoting.length > 0) throw invalid(path, "unbalanced quotes", quoting);
+  const [headingRow, ...records] = parsed.map((r) => r.cells);
   if (headingRow === undefined) throw invalid(path, "the file is empty; it needs a heading row and at least one data row", [{ field: "file", file: path, message: "empty file" }]);
   const headers = headingRow.map((cell) => cell.trim());
   const headingErrors: FieldError[] = [];
@@ -112,6 +117,23 @@ export function numericColumn(table: CsvTable, name: string): Float64Array {
   });
   if (errors.length > 0) throw invalid(table.file, `column '${name}' needs a number in every row; ${errors.length} cell(s) are not numbers`, errors);
   return values;
+}
+
+/**
+ * Refuses a column with empty cells (or cells that mark a missing value, such as NA), listing
+ * each with its row, so that no row is silently dropped or miscoded.
+ * Example: requireValues(table, "habitat") passes when every row names a habitat.
+ */
+export function requireValues(table: CsvTable, name: string): void {
+  const index = columnIndex(table, name);
+  const errors: FieldError[] = [];
+  table.rows.forEach((cells, row) => {
+    const cell = cells[index]!;
+    if (isEmptyCell(cell)) {
+      errors.push({ field: name, file: table.file, row: row + 1, value: cell, message: cell.trim() === "" ? "is empty; a value is needed" : `'${cell}' marks a missing value; a value is needed` });
+    }
+  });
+  if (errors.length > 0) throw invalid(table.file, `column '${name}' has ${errors.length} missing value(s); every row needs one`, errors);
 }
 
 /** Whether every cell of column `name` reads as a number (to tell numeric from categorical columns). */

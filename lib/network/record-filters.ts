@@ -18,6 +18,7 @@ const sharedFilters = {
     .number()
     .int()
     .positive()
+    .max(2_147_483_647)
     .optional()
     .describe("Only the rows of this submission (current or superseded). Without it, only the sites' current submissions are read."),
 };

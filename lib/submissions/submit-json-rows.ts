@@ -2,7 +2,10 @@ import { createHash } from "node:crypto";
 import { z } from "zod";
 import type { Db } from "../db/client";
 import type { Actor } from "../auth/actor";
+import { recordAudit } from "../audit/record-audit";
 import { submissionKindSchema } from "../ingest/schemas/vocabulary";
+import { enqueueSiteRecompute } from "../jobs/recompute-site-estimates-job";
+import { wakeServerJobRunner } from "../jobs/server-job-runner";
 import { siteCodeSchema } from "../network/site-input";
 import { writeSubmission } from "./write-submission";
 import { getSubmission, type SubmissionSummary } from "./list-submissions";
@@ -27,19 +30,24 @@ export const jsonSubmissionSchema = z.object({
 });
 export type JsonSubmission = z.output<typeof jsonSubmissionSchema>;
 
-export interface JsonSubmissionResult {
+export interface SubmissionWriteReply {
   submission: SubmissionSummary;
   supersededId: number | null;
   unchanged: boolean;
+  /** The queued recomputation of the site's estimates, when new brood records or covariates call for one. */
+  recomputeJobId: number | null;
 }
 
 /**
- * Writes a JSON submission whole or not at all (see writeSubmission). Its SHA-256 is taken over
- * the rows as compact JSON, so sending the same rows again is recognised as unchanged.
+ * Writes a JSON submission whole or not at all (see writeSubmission), with its audit entry and,
+ * as for an uploaded file, the queued recomputation of the site's estimates when it brings brood
+ * records (or covariates of a site with brood records). Its SHA-256 is taken over the rows as
+ * compact JSON, so sending the same rows again is recognised as unchanged.
  * Throws AppError invalid_input listing every bad row, not_found for an unknown site.
  */
-export async function submitJsonRows(db: Db, input: JsonSubmission, actor: Actor): Promise<JsonSubmissionResult> {
+export async function submitJsonRows(db: Db, input: JsonSubmission, actor: Actor): Promise<SubmissionWriteReply> {
   const sha256 = createHash("sha256").update(JSON.stringify(input.rows)).digest("hex");
+  let recomputeJobId: number | null = null;
   const written = await writeSubmission(db, {
     siteCode: input.siteCode,
     kind: input.kind,
@@ -47,6 +55,21 @@ export async function submitJsonRows(db: Db, input: JsonSubmission, actor: Actor
     sha256,
     rows: input.rows,
     submittedById: actor.userId,
+    alsoInTransaction: async (tx, { siteId, submissionId, supersededId }) => {
+      await recordAudit(tx, actor, {
+        action: "submission.json",
+        entityType: "submission",
+        entityId: submissionId,
+        before: supersededId === null ? null : { currentSubmissionId: supersededId },
+        after: { siteCode: input.siteCode, kind: input.kind, fileName: input.fileName, rowCount: input.rows.length },
+        sha256,
+      });
+      const needsRecompute =
+        input.kind === "brood_records" ||
+        (input.kind === "site_year_covariates" && (await tx.submission.count({ where: { siteId, kind: "brood_records", status: "accepted" } })) > 0);
+      if (needsRecompute) recomputeJobId = (await enqueueSiteRecompute(tx, { siteId, submissionId })).id;
+    },
   });
-  return { submission: await getSubmission(db, written.submissionId), supersededId: written.supersededId, unchanged: written.unchanged };
+  if (recomputeJobId !== null) wakeServerJobRunner();
+  return { submission: await getSubmission(db, written.submissionId), supersededId: written.supersededId, unchanged: written.unchanged, recomputeJobId };
 }

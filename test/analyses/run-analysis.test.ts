@@ -10,6 +10,7 @@ import { moderatorInputSchema, moderatorValueInputSchema } from "@/lib/network/m
 import { createSite } from "@/lib/network/create-site";
 import { siteInputSchema } from "@/lib/network/site-input";
 import { writeSubmission } from "@/lib/submissions/write-submission";
+import type { MetaResultJson } from "@/lib/stats/meta/result-json";
 import { expectClose } from "@/test/helpers/expect-close";
 import { createTestDatabase, testProviders, type TestDatabase } from "@/test/helpers/test-databases";
 
@@ -61,10 +62,10 @@ describe.each(providers)("running an analysis on %s", (provider) => {
   it("pools the four site estimates as R's weighted least squares does (common effect)", async () => {
     const id = await save({ name: "pooled", model: { type: "common_effect" } });
     const run = await runAnalysis(database.db, id, await actorPromise);
-    const fit = run.result.fit as { coefficients: { term: string; estimate: number; standardError: number }[]; heterogeneity: { q: number }; k: number };
-    expect(fit.k).toBe(4);
+    const fit = run.result.fit as MetaResultJson;
+    expect(fit.model).toMatchObject({ k: 4, method: "fe", test: "z", confidence_level: 0.95 });
     expectClose(fit.coefficients[0]!.estimate, reference.pooled.estimate, { rtol: 1e-10, label: "pooled estimate vs R lm(weights)" });
-    expectClose(fit.coefficients[0]!.standardError, reference.pooled.standardError, { rtol: 1e-10, label: "pooled SE vs R lm(weights)" });
+    expectClose(fit.coefficients[0]!.se, reference.pooled.standardError, { rtol: 1e-10, label: "pooled SE vs R lm(weights)" });
     expectClose(fit.heterogeneity.q, reference.pooled.q, { rtol: 1e-10, label: "Cochran's Q vs R weighted residual sum of squares" });
     expect(run.engineVersion).toBe(JSON.parse(readFileSync("package.json", "utf8")).version);
   });
@@ -72,11 +73,11 @@ describe.each(providers)("running an analysis on %s", (provider) => {
   it("joins each site's moderator value: the meta-regression matches R's lm(y ~ warming, weights)", async () => {
     const id = await save({ name: "by warming", model: { type: "common_effect" }, moderators: ["warming"] });
     const run = await runAnalysis(database.db, id, await actorPromise);
-    const [intercept, slope] = (run.result.fit as { coefficients: { estimate: number; standardError: number }[] }).coefficients;
+    const [intercept, slope] = (run.result.fit as MetaResultJson).coefficients;
     expectClose(intercept!.estimate, reference.regression.intercept, { rtol: 1e-9, label: "intercept vs R" });
-    expectClose(intercept!.standardError, reference.regression.interceptSe, { rtol: 1e-9, label: "intercept SE vs R" });
+    expectClose(intercept!.se, reference.regression.interceptSe, { rtol: 1e-9, label: "intercept SE vs R" });
     expectClose(slope!.estimate, reference.regression.slope, { rtol: 1e-9, label: "slope vs R" });
-    expectClose(slope!.standardError, reference.regression.slopeSe, { rtol: 1e-9, label: "slope SE vs R" });
+    expectClose(slope!.se, reference.regression.slopeSe, { rtol: 1e-9, label: "slope SE vs R" });
   });
 
   it("uses latitude from the site record, and leaves out (and lists) a site without a moderator value", async () => {

@@ -20,6 +20,8 @@ export interface CallOptions {
   json?: unknown;
   /** A raw body with its own content type. */
   raw?: { body: string; contentType: string };
+  /** A multipart/form-data body. */
+  form?: FormData;
 }
 
 export interface CallResult {
@@ -50,6 +52,7 @@ export async function callRoute(route: RouteDefinition, options: CallOptions = {
   if (options.json !== undefined) init.body = JSON.stringify(options.json);
   if (options.raw) init.body = options.raw.body;
   if (init.body !== undefined) init.headers = { "content-type": options.raw?.contentType ?? "application/json" };
+  if (options.form) init.body = options.form;
   const response = await handler(new Request(url, init), { params: Promise.resolve(options.params ?? {}) });
   calls.push({ route, status: response.status });
   const bytes = new Uint8Array(await response.arrayBuffer());

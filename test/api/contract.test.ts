@@ -88,6 +88,7 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     const list = await callRoute(apiRoutes.listSites);
     expect(list.body.items.map((s: { code: string }) => s.code)).toEqual(["ASH", "BIR", "OAK", "PIN"]);
     expect(list.body.totals).toEqual({ sites: 4, species: 1, broods: 0, estimates: 0 });
+    expect(list.body.items[0]).toMatchObject({ code: "ASH", recordYears: null });
     const one = await callRoute(apiRoutes.getSite, { params: { code: "OAK" } });
     expect(one.body.site.latitude).toBe(60.1);
     expect((await callRoute(apiRoutes.getSite, { params: { code: "NOPE" } })).status).toBe(404);
@@ -136,9 +137,51 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     }
   });
 
+  it("accepts a file uploaded as multipart/form-data, and refuses a bad file naming its row and column", async () => {
+    const csv = "female,year,lay date,clutch size,hatch date,fledged,recruits\nB-1,2010,121,8,,6,1\nB-2,2010,125,7,,5,0\n";
+    const form = new FormData();
+    form.set("file", new File([csv], "bir-broods.csv", { type: "text/csv" }));
+    form.set("siteCode", "BIR");
+    form.set("kind", "brood_records");
+    const uploaded = await callRoute(apiRoutes.createSubmission, { form });
+    expect(uploaded.status).toBe(201);
+    expect(uploaded.body).toMatchObject({ unchanged: false, submission: { siteCode: "BIR", fileName: "bir-broods.csv", rowCount: 2 }, recomputeJobId: expect.any(Number) });
+    const bad = new FormData();
+    bad.set("file", new File([csv.replace("B-2,2010,125,7,,5,0", "B-2,2010,125,7,,9,0")], "bad.csv"));
+    bad.set("siteCode", "BIR");
+    bad.set("kind", "brood_records");
+    const refused = await callRoute(apiRoutes.createSubmission, { form: bad });
+    expect(refused.status).toBe(422);
+    expect(refused.body.error.fieldErrors[0]).toMatchObject({ file: "bad.csv", row: 2 });
+    const noFile = new FormData();
+    noFile.set("siteCode", "BIR");
+    const missing = await callRoute(apiRoutes.createSubmission, { form: noFile });
+    expect(missing.status).toBe(422);
+    expect(missing.body.error.fieldErrors[0].field).toBe("file");
+  });
+
+  it("restores a superseded submission as a new current one; restoring the current one is 409", async () => {
+    const newer = await callRoute(apiRoutes.createSubmission, { json: { siteCode: "OAK", kind: "brood_records", fileName: "oak-v2.json", rows: [brood("F-1"), brood("F-9", 2012)] } });
+    expect(newer.body.supersededId).toBe(ids.submission);
+    const restored = await callRoute(apiRoutes.restoreSubmission, { params: { id: String(ids.submission) } });
+    expect(restored.status).toBe(201);
+    expect(restored.body).toMatchObject({ restoredFromId: ids.submission, supersededId: newer.body.submission.id, rowCount: 3 });
+    const current = await callRoute(apiRoutes.restoreSubmission, { params: { id: String(restored.body.submissionId) } });
+    expect(current.status).toBe(409);
+    const stale = await callRoute(apiRoutes.restoreSubmission, { params: { id: String(ids.submission) }, json: { expectedCurrentSubmissionId: "latest" } });
+    expect(stale.status).toBe(422);
+    expect(stale.body.error.fieldErrors[0].field).toBe("expectedCurrentSubmissionId");
+    expect((await callRoute(apiRoutes.restoreSubmission, { params: { id: "999999" } })).status).toBe(404);
+    ids.submission = restored.body.submissionId;
+  });
+
   it("lists submissions by filter and shows one; unknown parameters and values are refused", async () => {
     const list = await callRoute(apiRoutes.listSubmissions, { query: { site: "OAK", kind: "brood_records" } });
-    expect(list.body.items.map((s: { fileName: string }) => s.fileName)).toEqual(["oak-broods.json"]);
+    expect(list.body.items.map((s: { fileName: string; status: string }) => [s.fileName, s.status])).toEqual([
+      ["oak-broods.json", "accepted"],
+      ["oak-v2.json", "superseded"],
+      ["oak-broods.json", "superseded"],
+    ]);
     const estimates = await callRoute(apiRoutes.listSubmissions, { query: { kind: "estimates", site: ["OAK", "BIR"] } });
     expect(estimates.body.items).toHaveLength(2);
     const unknown = await callRoute(apiRoutes.listSubmissions, { query: { sites: "OAK" } });
@@ -149,13 +192,16 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     expect(one.body).toMatchObject({ id: ids.submission, kind: "brood_records", rowCount: 3 });
     expect((await callRoute(apiRoutes.getSubmission, { params: { id: "999999" } })).status).toBe(404);
     expect((await callRoute(apiRoutes.getSubmission, { params: { id: "abc" } })).status).toBe(422);
+    expect((await callRoute(apiRoutes.getSubmission, { params: { id: "3000000000" } })).status).toBe(422);
+    expect((await callRoute(apiRoutes.listBroodRecords, { query: { submission: "3000000000" } })).status).toBe(422);
   });
 
   it("filters and pages brood records and estimates", async () => {
     const broods = await callRoute(apiRoutes.listBroodRecords, { query: { site: "OAK", year: "2010", limit: "1" } });
+    // The restored submission is current: its three broods, not those of the version it replaced.
     expect(broods.body).toMatchObject({ total: 2, limit: 1, offset: 0 });
     expect(broods.body.items).toHaveLength(1);
-    const bySpecies = await callRoute(apiRoutes.listBroodRecords, { query: { species: "Ficedula hypoleuca", yearFrom: "2011" } });
+    const bySpecies = await callRoute(apiRoutes.listBroodRecords, { query: { species: "Ficedula hypoleuca", yearFrom: "2011", site: "OAK" } });
     expect(bySpecies.body.items.map((b: { femaleId: string }) => b.femaleId)).toEqual(["F-3"]);
     expect((await callRoute(apiRoutes.listBroodRecords, { query: { limit: "0" } })).status).toBe(422);
     expect((await callRoute(apiRoutes.listBroodRecords, { query: { year: "twenty-ten" } })).status).toBe(422);

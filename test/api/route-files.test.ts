@@ -60,6 +60,26 @@ describe("the API's routes on disk, in the registry and in the OpenAPI document"
     expect(documented).toEqual(operations);
   });
 
+  it("resolves every schema reference of the OpenAPI document to one of its components", () => {
+    const document = buildOpenApiDocument();
+    const refs: string[] = [];
+    const walk = (value: unknown): void => {
+      if (Array.isArray(value)) value.forEach(walk);
+      else if (value && typeof value === "object") {
+        for (const [key, inner] of Object.entries(value)) {
+          if (key === "$ref") refs.push(String(inner));
+          else walk(inner);
+        }
+      }
+    };
+    walk(document);
+    expect(refs.length).toBeGreaterThan(20);
+    for (const ref of new Set(refs)) {
+      expect(ref).toMatch(/^#\/components\/schemas\//);
+      expect(document.components.schemas, ref).toHaveProperty(ref.replace("#/components/schemas/", ""));
+    }
+  });
+
   it("names each path parameter of a route in its path and its params schema alike", () => {
     for (const route of API_ROUTES) {
       const inPath = [...route.path.matchAll(/\{([^}]+)\}/g)].map((m) => m[1]).sort();

@@ -1,6 +1,6 @@
 import type { CliCommand, CliIo } from "../command";
 import { AppError, type FieldError } from "../../errors/app-error";
-import { isNumericColumn, numericColumn, readCsvTable, textColumn, type CsvTable } from "../../ingest/read-csv-table";
+import { isNumericColumn, numericColumn, readCsvTable, requireValues, textColumn, type CsvTable } from "../../ingest/read-csv-table";
 import { ModelInputError } from "../../stats/model-error";
 import { fitMetaModel } from "../../stats/meta/fit-meta-model";
 import { metaData, StudyInputError } from "../../stats/meta/meta-data";
@@ -31,6 +31,7 @@ Moderators (meta-regression)
   --moderator COL       add a moderator; repeat for several. A column whose every value is a
                         number is numeric (entered as given); any other column is categorical,
                         coded as treatment contrasts against a reference level (terms COL[level]).
+                        Every row needs a value (an empty or NA cell is an error, never dropped).
   --categorical COL     treat a numeric-looking moderator (e.g. a year code) as categorical
   --reference COL=LEVEL reference level of a categorical moderator (default: first in sorted order)
   --centre COL          centre a numeric moderator at its mean (the intercept is then the effect
@@ -152,6 +153,7 @@ function parseArgs(args: string[]): PoolArgs {
 
 function moderatorSpecs(table: CsvTable, args: PoolArgs): ModeratorSpec[] {
   return args.moderators.map((name): ModeratorSpec => {
+    requireValues(table, name);
     const categorical = args.categorical.has(name) || args.references.has(name) || !isNumericColumn(table, name);
     if (categorical) {
       if (args.centre.has(name)) throw usageError(`--centre applies to numeric moderators; '${name}' is categorical`, "centre");

@@ -14,13 +14,18 @@
  * cached. Where code generation is unavailable (a Content-Security-Policy without 'unsafe-eval'),
  * or p > 8, the plain nested loop below gives the same sums in the same order per entry.
  *
- * Output layout (length 2 + p + 3 P, P = p (p + 1) / 2, matrices packed lower-triangular by rows):
- *   [sum w, sum w u, X'Wy (p), X'WX (P), X'WUX (P), X'WU^2X (P)]; entries beyond `level` are zero.
+ * Output layout (length 3 + p + 3 P, P = p (p + 1) / 2, matrices packed lower-triangular by rows):
+ *   [sum w, sum w u, X'Wy (p), X'WX (P), X'WUX (P), X'WU^2X (P), sum a log(v + tau^2)]; entries
+ *   beyond `level` (and the log sum, unless asked for) are zero.
  */
 
 /** 0: X'WX only; 1: also X'WUX; 2: also X'WU^2X. */
 export type KernelLevel = 0 | 1 | 2;
 
+/**
+ * Weights as given: reads u_i and w_i from `unitWeights` and `weights`.
+ * Example: ordinary least squares passes u = 1 and w = the case weights (or 1).
+ */
 export type CrossProductKernel = (
   design: Float64Array,
   k: number,
@@ -30,24 +35,59 @@ export type CrossProductKernel = (
   out: Float64Array,
 ) => void;
 
-const LARGEST_UNROLLED = 8;
-const cache = new Map<string, CrossProductKernel>();
+/**
+ * Weights at a trial tau^2, formed in the same pass: u_i = 1 / (v_i + tau^2), w_i = a_i u_i (a_i = 1
+ * when `caseWeights` is null), written to `unitWeights` and `weights` for the passes that follow,
+ * and (with `withLog`) sum a_i log(v_i + tau^2) in the last entry of `out`.
+ */
+export type Tau2CrossProductKernel = (
+  design: Float64Array,
+  k: number,
+  variances: Float64Array,
+  tau2: number,
+  caseWeights: Float64Array | null,
+  estimates: Float64Array,
+  unitWeights: Float64Array,
+  weights: Float64Array,
+  out: Float64Array,
+) => void;
 
+const LARGEST_UNROLLED = 8;
+const cache = new Map<string, Tau2CrossProductKernel>();
+
+/** Output length: 2 + p + 3 P sums, then sum a log(v + tau^2). */
 export function kernelOutputLength(p: number): number {
-  return 2 + p + (3 * p * (p + 1)) / 2;
+  return 3 + p + (3 * p * (p + 1)) / 2;
 }
 
-function nestedLoopKernel(p: number, level: KernelLevel): CrossProductKernel {
+type WeightSource = { kind: "given" } | { kind: "tau2"; caseWeights: boolean; log: boolean };
+
+/** With given weights the kernels ignore `variances`, `tau2` and `caseWeights`. */
+const NO_VARIANCES = new Float64Array(0);
+
+function nestedLoopKernel(p: number, level: KernelLevel, source: WeightSource): Tau2CrossProductKernel {
   const packed = (p * (p + 1)) / 2;
-  return (design, k, weights, unitWeights, estimates, out) => {
+  return (design, k, variances, tau2, caseWeights, estimates, unitWeights, weights, out) => {
     out.fill(0);
     const xtwyAt = 2;
     const s1At = 2 + p;
     const s2At = s1At + packed;
     const s3At = s2At + packed;
+    const logAt = s3At + packed;
     for (let i = 0; i < k; i += 1) {
-      const w = weights[i]!;
-      const u = unitWeights[i]!;
+      let u: number;
+      let w: number;
+      if (source.kind === "given") {
+        u = unitWeights[i]!;
+        w = weights[i]!;
+      } else {
+        const total = variances[i]! + tau2;
+        u = 1 / total;
+        w = caseWeights === null ? u : caseWeights[i]! * u;
+        unitWeights[i] = u;
+        weights[i] = w;
+        if (source.log) out[logAt] += (caseWeights === null ? 1 : caseWeights[i]!) * Math.log(total);
+      }
       const wu = w * u;
       const wuu = wu * u;
       const wy = w * estimates[i]!;
@@ -72,17 +112,27 @@ function nestedLoopKernel(p: number, level: KernelLevel): CrossProductKernel {
   };
 }
 
-function unrolledSource(p: number, level: KernelLevel): string {
+function unrolledSource(p: number, level: KernelLevel, source: WeightSource): string {
   const packed = (p * (p + 1)) / 2;
   const pairs: [number, number][] = [];
   for (let r = 0; r < p; r += 1) for (let c = 0; c <= r; c += 1) pairs.push([r, c]);
-  const accumulators = ["sw", "swu", ...Array.from({ length: p }, (_, r) => `y${r}`), ...pairs.map((_, j) => `a${j}`)];
+  const accumulators = ["sw", "swu", "sl", ...Array.from({ length: p }, (_, r) => `y${r}`), ...pairs.map((_, j) => `a${j}`)];
   if (level > 0) accumulators.push(...pairs.map((_, j) => `b${j}`));
   if (level > 1) accumulators.push(...pairs.map((_, j) => `c${j}`));
+  const weighting =
+    source.kind === "given"
+      ? ["const u = unitWeights[i], w = weights[i];"]
+      : [
+          "const total = variances[i] + tau2, u = 1 / total;",
+          `const w = ${source.caseWeights ? "caseWeights[i] * u" : "u"};`,
+          "unitWeights[i] = u; weights[i] = w;",
+          source.log ? `sl += ${source.caseWeights ? "caseWeights[i] * " : ""}Math.log(total);` : "",
+        ];
   const body: string[] = [
     `let ${accumulators.map((name) => `${name} = 0`).join(", ")};`,
     "for (let i = 0; i < k; i++) {",
-    "const w = weights[i], u = unitWeights[i], wu = w * u, wuu = wu * u, wy = w * estimates[i], o = i * " + p + ";",
+    ...weighting,
+    `const wu = w * u, wuu = wu * u, wy = w * estimates[i], o = i * ${p};`,
     `const ${Array.from({ length: p }, (_, r) => `x${r} = design[o + ${r}]`).join(", ")};`,
     "sw += w; swu += wu;",
     ...Array.from({ length: p }, (_, r) => `y${r} += x${r} * wy;`),
@@ -93,31 +143,57 @@ function unrolledSource(p: number, level: KernelLevel): string {
     "out[0] = sw; out[1] = swu;",
     ...Array.from({ length: p }, (_, r) => `out[${2 + r}] = y${r};`),
     ...pairs.map((_, j) => `out[${2 + p + j}] = a${j};`),
+    `out[${2 + p + 3 * packed}] = sl;`,
   ];
   if (level > 0) body.push(...pairs.map((_, j) => `out[${2 + p + packed + j}] = b${j};`));
   if (level > 1) body.push(...pairs.map((_, j) => `out[${2 + p + 2 * packed + j}] = c${j};`));
   return body.join("\n");
 }
 
-/**
- * The kernel for p columns at `level`, compiled on first use.
- * Example: crossProductKernel(1, 0)(Float64Array.of(1, 1), 2, w, u, y, out) puts sum w in out[0]
- * and sum w y in out[2].
- */
-export function crossProductKernel(p: number, level: KernelLevel): CrossProductKernel {
-  const key = `${p}:${level}`;
+const PARAMETERS = ["design", "k", "variances", "tau2", "caseWeights", "estimates", "unitWeights", "weights", "out"];
+
+function compiled(p: number, level: KernelLevel, source: WeightSource) {
+  const key = `${p}:${level}:${JSON.stringify(source)}`;
   const cached = cache.get(key);
-  if (cached) return cached;
-  let kernel: CrossProductKernel = nestedLoopKernel(p, level);
+  if (cached) return cached as Tau2CrossProductKernel;
+  let kernel = nestedLoopKernel(p, level, source);
   if (p <= LARGEST_UNROLLED) {
     try {
-      kernel = new Function("design", "k", "weights", "unitWeights", "estimates", "out", unrolledSource(p, level)) as CrossProductKernel;
+      kernel = new Function(...PARAMETERS, unrolledSource(p, level, source)) as Tau2CrossProductKernel;
     } catch {
       // Code generation is disallowed here: keep the nested loop.
     }
   }
   cache.set(key, kernel);
   return kernel;
+}
+
+/**
+ * The kernel for p columns at `level` with the weights as given, compiled on first use.
+ * Example: crossProductKernel(1, 0)(Float64Array.of(1, 1), 2, w, u, y, out) puts sum w in out[0]
+ * and sum w y in out[2].
+ */
+export function crossProductKernel(p: number, level: KernelLevel): CrossProductKernel {
+  const kernel = compiled(p, level, { kind: "given" });
+  return (design, k, weights, unitWeights, estimates, out) => kernel(design, k, NO_VARIANCES, 0, null, estimates, unitWeights, weights, out);
+}
+
+/**
+ * The kernel for p columns at `level` forming the weights at tau^2 in the same pass.
+ * Example: tau2CrossProductKernel(1, 0, false, true)(ones, k, v, 0.1, null, y, u, w, out).
+ */
+export function tau2CrossProductKernel(p: number, level: KernelLevel, caseWeights: boolean, withLog: boolean): Tau2CrossProductKernel {
+  return compiled(p, level, { kind: "tau2", caseWeights, log: withLog });
+}
+
+/** The nested-loop kernels, exported so tests can check the generated ones against them. */
+export function referenceCrossProductKernel(p: number, level: KernelLevel): CrossProductKernel {
+  const kernel = nestedLoopKernel(p, level, { kind: "given" });
+  return (design, k, weights, unitWeights, estimates, out) => kernel(design, k, NO_VARIANCES, 0, null, estimates, unitWeights, weights, out);
+}
+
+export function referenceTau2CrossProductKernel(p: number, level: KernelLevel, caseWeights: boolean, withLog: boolean): Tau2CrossProductKernel {
+  return nestedLoopKernel(p, level, { kind: "tau2", caseWeights, log: withLog });
 }
 
 export type ResidualKernel = (
@@ -190,9 +266,4 @@ export function unpackLowerTriangle(packed: ArrayLike<number>, full: Float64Arra
       full[c * p + r] = packed[index]!;
     }
   }
-}
-
-/** The nested-loop kernel, exported so tests can check the generated kernels against it. */
-export function referenceCrossProductKernel(p: number, level: KernelLevel): CrossProductKernel {
-  return nestedLoopKernel(p, level);
 }

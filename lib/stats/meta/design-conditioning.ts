@@ -61,22 +61,34 @@ function findInterceptColumn(design: DesignMatrix): number {
   return -1;
 }
 
-/** Names the earlier columns that column `dependent` is (numerically) a combination of. */
-function collinearityMessage(gram: Float64Array, size: number, dependent: number, names: readonly string[]): string {
+/**
+ * Names the earlier columns that column `dependent` is (numerically) a combination of. The
+ * combination is found on the conditioned columns and read back in the user's coding, so that the
+ * intercept is named when the relation has a constant term (x2 = 32 + 1.8 x1).
+ */
+function collinearityMessage(gram: Float64Array, size: number, dependent: number, names: readonly string[], centres: Float64Array, scales: Float64Array, interceptColumn: number): string {
   const lead = new Float64Array(dependent * dependent);
   const target = new Float64Array(dependent);
   for (let a = 0; a < dependent; a += 1) {
     target[a] = gram[a * size + dependent]!;
     for (let b = 0; b < dependent; b += 1) lead[a * dependent + b] = gram[a * size + b]!;
   }
-  const partners: string[] = [];
+  const partners = new Set<number>();
   const factor = dependent > 0 ? choleskyFactor(lead, dependent, DEPENDENCE_TOLERANCE) : undefined;
   if (factor?.ok) {
     const combination = choleskySolve(factor.factor, target);
     // Columns are unit-scaled, so coefficients of a real dependence are of order one.
-    for (let a = 0; a < dependent; a += 1) if (Math.abs(combination[a]!) > 1e-6) partners.push(quote(names[a]!));
+    for (let a = 0; a < dependent; a += 1) if (Math.abs(combination[a]!) > 1e-6) partners.add(a);
+    if (interceptColumn >= 0 && interceptColumn < dependent) {
+      // Constant term of x_dep = const + sum_a (s_dep c_a / s_a) x_a in the user's coding.
+      let constant = centres[dependent]! + scales[dependent]! * combination[interceptColumn]!;
+      for (let a = 0; a < dependent; a += 1) if (a !== interceptColumn) constant -= (scales[dependent]! * combination[a]! * centres[a]!) / scales[a]!;
+      if (Math.abs(constant) > 1e-6 * (Math.abs(centres[dependent]!) + scales[dependent]!)) partners.add(interceptColumn);
+      else partners.delete(interceptColumn);
+    }
   }
-  const which = partners.length > 0 ? listNames(partners) : "the terms before it";
+  const named = [...partners].sort((a, b) => a - b).map((a) => quote(names[a]!));
+  const which = named.length > 0 ? listNames(named) : "the terms before it";
   return `the moderators are collinear (the design is rank-deficient): ${quote(names[dependent]!)} is a linear combination of ${which}; remove one of these terms`;
 }
 
@@ -141,7 +153,7 @@ export function conditionDesign(design: DesignMatrix): ConditionedDesign {
   const gram = new Float64Array(columns * columns);
   unpackLowerTriangle(sums.subarray(2 + columns), gram, columns);
   const outcome = choleskyFactor(gram, columns, DEPENDENCE_TOLERANCE);
-  if (!outcome.ok) throw new ModelInputError(collinearityMessage(gram, columns, outcome.column, columnNames));
+  if (!outcome.ok) throw new ModelInputError(collinearityMessage(gram, columns, outcome.column, columnNames, centres, scales, interceptColumn));
   let smallestPivotRatio = 1;
   for (let j = 0; j < columns; j += 1) {
     const ratio = outcome.factor.lower[j * columns + j]! ** 2 / gram[j * columns + j]!;

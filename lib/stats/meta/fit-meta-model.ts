@@ -47,7 +47,7 @@ import type {
 } from "./meta-result";
 import { permutationTest, type PermutationSettings } from "./permutation-test";
 import { predictAt } from "./prediction-interval";
-import { qProfileInterval } from "./q-profile-interval";
+import { Q_PROFILE_DESCRIPTION, qProfileInterval } from "./q-profile-interval";
 import { studyDiagnostics } from "./study-diagnostics";
 import { estimateTau2, METHOD_DESCRIPTIONS, TAU2_METHODS, type Tau2Method } from "./tau2-estimator";
 import type { IterationControl } from "./tau2-estimate";
@@ -91,11 +91,12 @@ function resolveControl(options: MetaModelOptions): IterationControl {
 
 function checkDesign(data: MetaData, design: DesignMatrix): void {
   if (design.rows !== data.k) throw new ModelInputError(`the design has ${design.rows} rows for ${data.k} studies`);
-  for (let i = 0; i < design.data.length; i += 1) {
-    if (!Number.isFinite(design.data[i]!)) {
-      const study = Math.floor(i / design.columns);
-      throw new ModelInputError(`study ${study + 1}: design column '${design.columnNames[i % design.columns]}' is not a finite number`);
-    }
+  // x * 0 is 0 for finite x and NaN otherwise: one cheap pass, then a search only on failure.
+  let probe = 0;
+  for (let i = 0; i < design.data.length; i += 1) probe += design.data[i]! * 0;
+  if (probe !== 0) {
+    const i = design.data.findIndex((x) => !Number.isFinite(x));
+    throw new ModelInputError(`study ${Math.floor(i / design.columns) + 1}: design column '${design.columnNames[i % design.columns]}' is not a finite number`);
   }
   const p = design.columns;
   if (p < 1) throw new ModelInputError("the design has no columns");
@@ -125,8 +126,10 @@ function pseudoR2(data: MetaData, method: Tau2Method, tau2: number, control: Ite
     logDetGram: Math.log(data.k),
   };
   const estimate = estimateTau2(method, new WeightedFit(problem), control);
-  if (!estimate.converged) warnings.push(warning("non_convergence", "the intercept-only fit behind pseudo-R^2 did not converge; pseudo-R^2 is not reported"));
-  if (!estimate.converged) return { available: false, reason: "the intercept-only tau^2 did not converge" };
+  if (!estimate.converged) {
+    warnings.push(warning("non_convergence", "the intercept-only fit behind pseudo-R^2 did not converge; pseudo-R^2 is not reported"));
+    return { available: false, reason: "the intercept-only tau^2 did not converge" };
+  }
   if (!(estimate.tau2 > 0)) return { available: false, reason: "the intercept-only model has tau^2 = 0, so there is no between-study variance for the moderators to explain" };
   return { available: true, value: Math.max(0, (estimate.tau2 - tau2) / estimate.tau2), tau2InterceptOnly: estimate.tau2 };
 }
@@ -234,6 +237,7 @@ export function fitMetaModel(data: MetaData, options: MetaModelOptions = {}): Me
     interval = {
       available: true,
       method: "q-profile",
+      description: Q_PROFILE_DESCRIPTION,
       level: confidenceLevel,
       tau2Lower: limits.lower,
       tau2Upper: limits.upper,

@@ -16,7 +16,8 @@
  * The iteration is Newton's method on g(tau^2) = 1/Q(tau^2) - 1/target, which is nearly linear
  * (exactly so when all v_i are equal, Q ~ c / (v + tau^2)), using dQ/dtau^2 = -sum w_i u_i e_i^2:
  *   tau^2 <- tau^2 + Q (Q - target) / (target sum w u e^2).
- * A step that leaves the bracket of known signs is replaced by bisection.
+ * A step that leaves the bracket of known signs is replaced by bisection. Converged when a step
+ * is below the tolerance (relative), or when the quadratic rate predicts the error left after it is.
  */
 import type { WeightedFit } from "./weighted-fit";
 import type { IterationControl } from "./tau2-estimate";
@@ -45,6 +46,7 @@ export function solveGeneralisedQ(fit: WeightedFit, target: number, start: numbe
   let lower = 0;
   let upper = Number.POSITIVE_INFINITY;
   let current = start > 0 ? start : 0;
+  let previousStep = Number.NaN;
   for (let iteration = 1; iteration <= control.maxIterations; iteration += 1) {
     let q: number;
     let qSlope: number;
@@ -58,15 +60,24 @@ export function solveGeneralisedQ(fit: WeightedFit, target: number, start: numbe
     if (q > target) lower = Math.max(lower, current);
     else upper = Math.min(upper, current);
     let next = current + (q * (q - target)) / (target * qSlope);
+    let newton = true;
     if (!(next > lower && next < upper)) {
       // The bound needs one least-squares pass, so it is formed only when a step overshoots.
       if (upper === Number.POSITIVE_INFINITY) upper = fit.olsResidualSumOfSquares() / target;
-      if (!(next > lower && next < upper)) next = 0.5 * (lower + upper);
+      if (!(next > lower && next < upper)) {
+        next = 0.5 * (lower + upper);
+        newton = false;
+      }
     }
+    const step = Math.abs(next - current);
     const bracketClosed = Number.isFinite(upper) && upper - lower <= control.tolerance * upper;
-    if (Math.abs(next - current) <= control.tolerance * next || bracketClosed) {
+    // Newton converges quadratically: once steps shrink like s_n ~ C s_{n-1}^2, the error left after
+    // this step is about C s^2 with C = s / s_previous^2, and a further evaluation is not needed.
+    const predictedError = newton && step < 0.01 * next ? (step / previousStep ** 2) * step * step : Number.POSITIVE_INFINITY;
+    if (step <= control.tolerance * next || bracketClosed || predictedError <= control.tolerance * next) {
       return { tau2: next, converged: true, iterations: iteration };
     }
+    previousStep = newton ? step : Number.NaN;
     current = next;
   }
   return { tau2: current, converged: false, iterations: control.maxIterations };

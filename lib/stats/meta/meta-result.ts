@@ -32,6 +32,7 @@ export interface CoefficientEstimate {
 export interface HeterogeneityInterval {
   readonly available: true;
   readonly method: "q-profile";
+  readonly description: string;
   readonly level: number;
   readonly tau2Lower: number;
   readonly tau2Upper: number;
@@ -103,6 +104,7 @@ export interface PredictionInterval {
 }
 
 export interface Prediction {
+  readonly available: true;
   /** The design row the prediction is for (user's coding). */
   readonly at: readonly number[];
   /** x0' beta: the mean effect at these moderator values. */

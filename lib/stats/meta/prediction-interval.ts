@@ -67,6 +67,7 @@ export function predictAt(source: PredictionSource, row: ArrayLike<number>): Pre
     interval = { available: true, lower: estimate - t * predictionSe, upper: estimate + t * predictionSe, df, standardError: predictionSe };
   }
   return {
+    available: true,
     at: Array.from(row),
     estimate,
     standardError,

@@ -17,6 +17,10 @@ import type { WeightedFit } from "./weighted-fit";
 import { solveGeneralisedQ } from "./generalised-q-root";
 import type { IterationControl } from "./tau2-estimate";
 
+/** How the interval is obtained, for every output that shows it. */
+export const Q_PROFILE_DESCRIPTION =
+  "Q-profile: the tau^2 values at which the generalised Q equals the chi-square(k - p) quantiles (Viechtbauer 2007, Statistics in Medicine 26: 37-52); a limit is 0 when Q at tau^2 = 0 is already below its quantile; I^2 and H^2 limits follow from the tau^2 limits.";
+
 export interface QProfileLimits {
   readonly lower: number;
   readonly upper: number;

@@ -5,6 +5,7 @@
  * silently).
  */
 import type { MetaModelResult } from "./meta-result";
+import { Q_PROFILE_DESCRIPTION } from "./q-profile-interval";
 
 export interface MetaResultJson {
   model: {
@@ -35,6 +36,7 @@ export interface MetaResultJson {
     h2: number;
     h2_ci: [number, number] | null;
     ci_method: "q-profile";
+    ci_description: string;
     ci_note: string | null;
     typical_within_study_variance: number;
     q: number;
@@ -130,6 +132,7 @@ export function metaResultToJson(result: MetaModelResult, options: ResultJsonOpt
       h2: finite(h.h2, "h2"),
       h2_ci: interval ? [finite(interval.h2Lower, "h2_ci"), finite(interval.h2Upper, "h2_ci")] : null,
       ci_method: "q-profile",
+      ci_description: Q_PROFILE_DESCRIPTION,
       ci_note: !h.interval.available
         ? h.interval.reason
         : h.interval.upperAtZero

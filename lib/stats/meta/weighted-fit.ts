@@ -19,7 +19,7 @@
  */
 import { choleskyFactor, choleskyInverse, choleskyLogDeterminant, choleskySolve } from "../linear/cholesky";
 import { ModelInputError } from "../model-error";
-import { crossProductKernel, kernelOutputLength, residualKernel, unpackLowerTriangle } from "./cross-product-kernel";
+import { crossProductKernel, kernelOutputLength, residualKernel, tau2CrossProductKernel, unpackLowerTriangle } from "./cross-product-kernel";
 
 /** The problem in the conditioned coordinates of design-conditioning.ts. */
 export interface MetaProblem {
@@ -43,6 +43,11 @@ export const WITH_INFORMATION = 4;
 
 const LOG_TWO_PI = Math.log(2 * Math.PI);
 
+/**
+ * The workspace for one problem. Construct once, then evaluate() at trial tau^2 values and read the
+ * public fields (valid until the next evaluation). Input: a full-rank conditioned problem with
+ * k > p. Example: new WeightedFit(problem).evaluate(0.1, WITH_TRACE) sets q, traceP, coefficients.
+ */
 export class WeightedFit {
   readonly problem: MetaProblem;
   /** tau^2 of the last evaluation (NaN before the first, or after an unweighted evaluation). */
@@ -115,22 +120,6 @@ export class WeightedFit {
    */
   evaluate(tau2: number, flags = 0): void {
     if (tau2 === this.tau2 && (this.evaluatedFlags & flags) === flags && this.evaluatedFlags >= 0) return;
-    const { k, variances, caseWeights } = this.problem;
-    const unit = this.unitWeights;
-    const weights = this.weights;
-    let sumLog = 0;
-    if (flags & WITH_LOG_LIKELIHOOD) {
-      for (let i = 0; i < k; i += 1) {
-        const total = variances[i]! + tau2;
-        unit[i] = 1 / total;
-        sumLog += (caseWeights === null ? 1 : caseWeights[i]!) * Math.log(total);
-      }
-    } else {
-      for (let i = 0; i < k; i += 1) unit[i] = 1 / (variances[i]! + tau2);
-    }
-    if (caseWeights === null) weights.set(unit);
-    else for (let i = 0; i < k; i += 1) weights[i] = caseWeights[i]! * unit[i]!;
-    this.sumLogTotalVariance = sumLog;
     this.tau2 = Number.NaN;
     this.evaluatedFlags = -1;
     this.accumulate(flags, tau2);
@@ -146,7 +135,7 @@ export class WeightedFit {
     else this.weights.set(caseWeights);
     this.tau2 = Number.NaN;
     this.evaluatedFlags = -1;
-    this.accumulate(0, Number.NaN);
+    this.accumulate(0, Number.NaN, true);
   }
 
   /** ML log-likelihood at the last evaluation (needs WITH_LOG_LIKELIHOOD). */
@@ -181,16 +170,22 @@ export class WeightedFit {
     return this.logDetXtAX;
   }
 
-  /** Forms the cross-products from the current weights, solves for beta, then one residual pass. */
-  private accumulate(flags: number, tau2: number): void {
-    const { k, p, estimates, design } = this.problem;
+  /**
+   * Forms the weights at tau2 (or uses the given ones) and the cross-products in one pass, solves
+   * for beta, then one residual pass.
+   */
+  private accumulate(flags: number, tau2: number, givenWeights = false): void {
+    const { k, p, estimates, design, variances, caseWeights } = this.problem;
     const needTrace = (flags & (WITH_TRACE | WITH_INFORMATION)) !== 0;
     const needInformation = (flags & WITH_INFORMATION) !== 0;
+    const withLog = (flags & WITH_LOG_LIKELIHOOD) !== 0;
     const level = needInformation ? 2 : needTrace ? 1 : 0;
     const sums = this.sums;
     const unit = this.unitWeights;
     const weights = this.weights;
-    crossProductKernel(p, level)(design, k, weights, unit, estimates, sums);
+    if (givenWeights) crossProductKernel(p, level)(design, k, weights, unit, estimates, sums);
+    else tau2CrossProductKernel(p, level, caseWeights !== null, withLog)(design, k, variances, tau2, caseWeights, estimates, unit, weights, sums);
+    this.sumLogTotalVariance = sums[sums.length - 1]!;
     const packed = (p * (p + 1)) / 2;
     const sumWeights = sums[0]!;
     const sumWeightsUnit = sums[1]!;
