@@ -25,6 +25,8 @@ export interface MetaResultJson {
     references: string[];
   };
   coefficients: { term: string; estimate: number; se: number; statistic: number; p_value: number; ci_lower: number; ci_upper: number }[];
+  /** Covariance of the coefficients under the chosen test, one row per coefficient (for predictions and fitted bands). */
+  coefficient_covariance: number[][];
   heterogeneity: {
     scope: "total" | "residual";
     tau2: number;
@@ -121,6 +123,9 @@ export function metaResultToJson(result: MetaModelResult, options: ResultJsonOpt
       ci_lower: finite(c.ciLower, `${c.term} ci_lower`),
       ci_upper: finite(c.ciUpper, `${c.term} ci_upper`),
     })),
+    coefficient_covariance: result.coefficients.map((_, row) =>
+      result.coefficients.map((__, column) => finite(result.coefficientCovariance[row * result.p + column]!, "coefficient covariance")),
+    ),
     heterogeneity: {
       scope: h.scope,
       tau2: finite(h.tau2, "tau2"),

@@ -49,6 +49,13 @@ describe("metaResultToJson", () => {
     expect(JSON.parse(JSON.stringify(json))).toEqual(json);
   });
 
+  it("carries the coefficient covariance: its diagonal is the squared standard errors, and it is symmetric", () => {
+    const json = metaResultToJson(fitMetaModel(data, { design: moderators!.design }));
+    expect(json.coefficient_covariance).toHaveLength(2);
+    json.coefficients.forEach((c, i) => expectClose(json.coefficient_covariance[i]![i]!, c.se ** 2, { rtol: 1e-12 }));
+    expect(json.coefficient_covariance[0]![1]).toBe(json.coefficient_covariance[1]![0]);
+  });
+
   it("refuses to print a non-finite required number", () => {
     const fit = fitMetaModel(data);
     const broken = { ...fit, coefficients: [{ ...fit.coefficients[0]!, standardError: Number.NaN }] } as MetaModelResult;
