@@ -29,6 +29,11 @@ const nextConfig = {
   // Native and server-only packages stay out of the bundle and load from node_modules.
   serverExternalPackages: ["better-sqlite3", "@prisma/adapter-better-sqlite3", "@prisma/adapter-pg", "pg"],
   poweredByHeader: false,
+  experimental: {
+    // Uploads go through server actions; the upload use case enforces PHENOPOOL_MAX_UPLOAD_BYTES
+    // itself with a clear message, so the transport limit only needs to sit above it.
+    serverActions: { bodySizeLimit: "110mb" },
+  },
   async headers() {
     return [{ source: "/:path*", headers: securityHeaders }];
   },

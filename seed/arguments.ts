@@ -2,6 +2,7 @@
 import { AppError } from "../lib/errors/app-error";
 import { DEFAULT_DEMO_SEED } from "./simulate";
 import { DEFAULT_TRUTH_PATH } from "./truth";
+import { DEFAULT_ACCOUNTS_PATH } from "./accounts";
 
 export const SEED_USAGE = `Usage: npm run seed [-- options]
 
@@ -14,6 +15,7 @@ Options:
   --if-empty      Load only into an empty database; otherwise say so and exit 0.
   --truth FILE    Where to write the simulation's true parameters (default ${DEFAULT_TRUTH_PATH}).
   --accounts      Print the demo accounts and passwords of the last load, and exit.
+  --accounts-file FILE  Where the demo accounts and passwords are kept (default ${DEFAULT_ACCOUNTS_PATH}).
   --help          Show this text.
 `;
 
@@ -22,12 +24,13 @@ export interface SeedArguments {
   force: boolean;
   ifEmpty: boolean;
   truthPath: string;
+  accountsPath: string;
   showAccounts: boolean;
   help: boolean;
 }
 
 export function parseSeedArguments(argv: readonly string[]): SeedArguments {
-  const parsed: SeedArguments = { seed: DEFAULT_DEMO_SEED, force: false, ifEmpty: false, truthPath: DEFAULT_TRUTH_PATH, showAccounts: false, help: false };
+  const parsed: SeedArguments = { seed: DEFAULT_DEMO_SEED, force: false, ifEmpty: false, truthPath: DEFAULT_TRUTH_PATH, accountsPath: DEFAULT_ACCOUNTS_PATH, showAccounts: false, help: false };
   const valueOf = (i: number, flag: string): string => {
     const value = argv[i + 1];
     if (value === undefined || value.startsWith("--")) throw new AppError("invalid_input", `${flag} needs a value`, [{ field: flag, message: "missing value" }]);
@@ -44,6 +47,7 @@ export function parseSeedArguments(argv: readonly string[]): SeedArguments {
       }
       parsed.seed = seed;
     } else if (flag === "--truth") parsed.truthPath = take();
+    else if (flag === "--accounts-file") parsed.accountsPath = take();
     else if (flag === "--force") parsed.force = true;
     else if (flag === "--if-empty") parsed.ifEmpty = true;
     else if (flag === "--accounts") parsed.showAccounts = true;

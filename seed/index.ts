@@ -8,7 +8,7 @@ import { existsSync } from "node:fs";
 import { readEnv } from "../lib/config/env";
 import { redactUrl } from "../lib/db/provider";
 import { toAppError } from "../lib/errors/app-error";
-import { DEFAULT_ACCOUNTS_PATH, formatAccounts, readAccountsFile } from "./accounts";
+import { formatAccounts, readAccountsFile } from "./accounts";
 import { parseSeedArguments, SEED_USAGE } from "./arguments";
 import { runSeed } from "./run-seed";
 
@@ -19,7 +19,7 @@ async function main(argv: readonly string[]): Promise<number> {
     return 0;
   }
   if (args.showAccounts) {
-    const file = readAccountsFile(DEFAULT_ACCOUNTS_PATH);
+    const file = readAccountsFile(args.accountsPath);
     process.stdout.write(`Demo accounts (seed ${file.seed}):\n${formatAccounts(file.accounts)}\n`);
     return 0;
   }
@@ -31,13 +31,13 @@ async function main(argv: readonly string[]): Promise<number> {
     force: args.force,
     ifEmpty: args.ifEmpty,
     truthPath: args.truthPath,
-    accountsPath: DEFAULT_ACCOUNTS_PATH,
+    accountsPath: args.accountsPath,
   });
   if (result.status === "skipped") {
     process.stdout.write(`${where} already holds ${result.siteCount} site${result.siteCount === 1 ? "" : "s"}; left as it is (--if-empty).\n`);
     // The demo start runs this every time: say again how to sign in, when the accounts file is there.
-    if (existsSync(DEFAULT_ACCOUNTS_PATH)) {
-      const file = readAccountsFile(DEFAULT_ACCOUNTS_PATH);
+    if (existsSync(args.accountsPath)) {
+      const file = readAccountsFile(args.accountsPath);
       process.stdout.write(`Demo accounts written when the demo network was loaded (seed ${file.seed}):\n${formatAccounts(file.accounts)}\n`);
     }
     return 0;
@@ -50,7 +50,8 @@ async function main(argv: readonly string[]): Promise<number> {
       `  ${summary.sites} sites (${summary.broodRecordSites} with brood records, ${summary.estimatesOnlySites} with their own estimates only), ${summary.species} species`,
       `  ${summary.broodRecords} broods in ${summary.siteYears} site-years, ${summary.uploadedEstimates} uploaded estimates, ${summary.submissions} submissions`,
       `  ${summary.users} accounts, ${summary.moderatorValues} moderator values`,
-      `  simulated in ${seconds(timings.simulateMs)} s, passwords ${seconds(timings.passwordsMs)} s, loaded in ${seconds(timings.loadMs)} s`,
+      `  ${result.computedEstimates} estimates computed from the brood records`,
+      `  simulated in ${seconds(timings.simulateMs)} s, passwords ${seconds(timings.passwordsMs)} s, loaded in ${seconds(timings.loadMs)} s, estimates in ${seconds(timings.estimatesMs)} s`,
       `True parameters: ${args.truthPath}`,
       `Demo accounts (again with npm run seed -- --accounts):`,
       formatAccounts(result.accounts),

@@ -8,6 +8,7 @@ import { AppError } from "../lib/errors/app-error";
 import { demoAccounts, hashAccountPasswords, writeAccountsFile, type DemoAccount } from "./accounts";
 import { clearDatabase } from "./load/clear-database";
 import { loadNetwork, type LoadSummary } from "./load";
+import { recomputeSiteEstimates } from "../lib/estimates/recompute-site-estimates";
 import { simulateNetwork } from "./simulate";
 import { writeTruthFile } from "./truth";
 
@@ -24,7 +25,15 @@ export interface RunSeedOptions {
   accountsPath: string | null;
   /** Load only these demo sites (default all; see simulateNetwork). */
   siteCodes?: readonly string[];
+  /**
+   * Compute every raw-data site's estimates after loading, as an accepted upload would
+   * (default true), with this many bootstrap replicates for the selection gradients.
+   */
+  computeEstimates?: { bootstrapReplicates: number } | false;
 }
+
+/** Bootstrap replicates for the demo's selection-gradient SEs: enough for stable SEs, quick to load. */
+export const DEMO_BOOTSTRAP_REPLICATES = 400;
 
 export type RunSeedResult =
   | { status: "skipped"; siteCount: number }
@@ -33,7 +42,8 @@ export type RunSeedResult =
       summary: LoadSummary;
       cleared: boolean;
       accounts: DemoAccount[];
-      timings: { simulateMs: number; passwordsMs: number; loadMs: number };
+      timings: { simulateMs: number; passwordsMs: number; loadMs: number; estimatesMs: number };
+      computedEstimates: number;
     };
 
 /**
@@ -72,9 +82,20 @@ export async function runSeed(options: RunSeedOptions): Promise<RunSeedResult> {
     started = performance.now();
     const summary = await loadNetwork(db, network, { passwordHashes });
     const loadMs = performance.now() - started;
+    started = performance.now();
+    let computedEstimates = 0;
+    const compute = options.computeEstimates ?? { bootstrapReplicates: DEMO_BOOTSTRAP_REPLICATES };
+    if (compute) {
+      const sites = await db.site.findMany({ where: { broodRecords: { some: {} } }, select: { id: true }, orderBy: { code: "asc" } });
+      for (const site of sites) {
+        const report = await recomputeSiteEstimates(db, site.id, { bootstrapReplicates: compute.bootstrapReplicates, seed: options.seed });
+        computedEstimates += report.estimatesWritten;
+      }
+    }
+    const estimatesMs = performance.now() - started;
     if (options.truthPath !== null) writeTruthFile(options.truthPath, network.truth);
     if (options.accountsPath !== null) writeAccountsFile(options.accountsPath, options.seed, accounts);
-    return { status: "loaded", summary, cleared, accounts, timings: { simulateMs, passwordsMs, loadMs } };
+    return { status: "loaded", summary, cleared, accounts, computedEstimates, timings: { simulateMs, passwordsMs, loadMs, estimatesMs } };
   } finally {
     await db.$disconnect();
   }

@@ -1,6 +1,7 @@
 import type { Db } from "../db/client";
 import { AppError } from "../errors/app-error";
 import type { Actor } from "../auth/actor";
+import { recordAudit } from "../audit/record-audit";
 import { LATITUDE_MODERATOR_KEY } from "../network/moderator-input";
 import { analysisSpecificationSchema, type AnalysisSpecification } from "./specification";
 
@@ -52,7 +53,7 @@ function summary(row: AnalysisRow): AnalysisSummary {
 }
 
 /**
- * Saves an analysis specification. Throws AppError invalid_input naming a moderator that does not
+ * Saves an analysis specification, with its audit entry in the same transaction. Throws AppError invalid_input naming a moderator that does not
  * exist, and conflict when the name is taken.
  */
 export async function createAnalysis(db: Db, specification: AnalysisSpecification, actor: Actor): Promise<AnalysisSummary> {
@@ -69,9 +70,13 @@ export async function createAnalysis(db: Db, specification: AnalysisSpecificatio
   if (await db.analysis.findUnique({ where: { name: specification.name }, select: { id: true } })) {
     throw new AppError("conflict", `an analysis named '${specification.name}' already exists`, [{ field: "name", message: "already in use", value: specification.name }]);
   }
-  const created = await db.analysis.create({
-    data: { name: specification.name, specification: JSON.stringify(specification), createdById: actor.userId },
-    select: { id: true },
+  const created = await db.$transaction(async (tx) => {
+    const analysis = await tx.analysis.create({
+      data: { name: specification.name, specification: JSON.stringify(specification), createdById: actor.userId },
+      select: { id: true },
+    });
+    await recordAudit(tx, actor, { action: "analysis.create", entityType: "Analysis", entityId: analysis.id, after: specification });
+    return analysis;
   });
   return getAnalysis(db, created.id);
 }

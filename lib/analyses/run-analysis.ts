@@ -1,5 +1,6 @@
 import type { Db } from "../db/client";
 import type { Actor } from "../auth/actor";
+import { recordAudit } from "../audit/record-audit";
 import { AppError } from "../errors/app-error";
 import { parseStoredSpecification } from "./analyses";
 import { selectAnalysisDataset, type AnalysisDataset } from "./analysis-dataset";
@@ -82,22 +83,33 @@ async function view(db: Db, run: { id: number; analysisId: number; createdAt: Da
 /**
  * Runs a saved analysis on today's data: selects the current estimates it names with their sites'
  * moderators, fits the model, and stores an AnalysisRun with the data fingerprint and the engine
- * version. Throws AppError not_found for an unknown analysis and cannot_compute (with the reason)
- * when nothing matches or the model cannot be fitted; nothing is stored then.
+ * version, with its audit entry in the same transaction. Throws AppError not_found for an unknown
+ * analysis and cannot_compute (with the reason) when nothing matches or the model cannot be
+ * fitted; nothing is stored then.
  */
-export async function runAnalysis(db: Db, analysisId: number, _actor: Actor): Promise<AnalysisRunView> {
+export async function runAnalysis(db: Db, analysisId: number, actor: Actor): Promise<AnalysisRunView> {
   const analysis = await db.analysis.findUnique({ where: { id: analysisId } });
   if (!analysis) throw new AppError("not_found", `analysis ${analysisId} does not exist`, [{ field: "id", message: "unknown analysis", value: String(analysisId) }]);
   const spec = parseStoredSpecification(analysis.id, analysis.specification);
   const dataset = await selectAnalysisDataset(db, spec);
   const fit = fitAnalysis(spec, dataset);
-  const run = await db.analysisRun.create({
-    data: {
-      analysisId,
-      dataFingerprint: dataFingerprint(dataset),
-      result: JSON.stringify(storedResult(spec, dataset, metaResultToJson(fit))),
-      engineVersion: ENGINE_VERSION,
-    },
+  const fingerprint = dataFingerprint(dataset);
+  const run = await db.$transaction(async (tx) => {
+    const created = await tx.analysisRun.create({
+      data: {
+        analysisId,
+        dataFingerprint: fingerprint,
+        result: JSON.stringify(storedResult(spec, dataset, metaResultToJson(fit))),
+        engineVersion: ENGINE_VERSION,
+      },
+    });
+    await recordAudit(tx, actor, {
+      action: "analysis.run",
+      entityType: "AnalysisRun",
+      entityId: created.id,
+      after: { analysisId, analysisName: analysis.name, studies: dataset.studies.length, dataFingerprint: fingerprint, engineVersion: ENGINE_VERSION },
+    });
+    return created;
   });
   return view(db, run, spec);
 }

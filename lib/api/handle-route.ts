@@ -1,15 +1,19 @@
 import type { z } from "zod";
 import type { Actor } from "../auth/actor";
+import { authorize, decide, readableSites, type Action, type ActionTarget, type Decision, type SiteScope } from "../auth/policy";
 import { requestActor } from "../auth/request-actor";
+import { getDb } from "../db/client";
+import { readNetworkSettings, type NetworkSettings } from "../settings/network-settings";
 import { errorResponse } from "./error-response";
-import { parseBody, parsePathParams, parseQuery, readJsonBody } from "./request-input";
+import { parseBody, parsePathParams, parseQuery, readFormData, readJsonBody } from "./request-input";
+import { resolveTargetSite } from "./route-access";
 import type { RouteDefinition } from "./route-definition";
 
 type Parsed<S> = S extends z.ZodType ? z.output<S> : undefined;
 
 export interface RouteInput<D extends RouteDefinition> {
   request: Request;
-  /** Who is asking (see lib/auth/request-actor.ts). */
+  /** Who is asking (see lib/auth/request-actor.ts), already allowed by the route's access rule. */
   actor: Actor;
   params: Parsed<D["params"]>;
   query: Parsed<D["query"]>;
@@ -17,6 +21,14 @@ export interface RouteInput<D extends RouteDefinition> {
   body: Parsed<D["body"]>;
   /** The JSON body's text, for hashing what was sent. */
   bodyText: string | undefined;
+  /** The multipart form of a file upload (read once, before authorization, to find its site). */
+  form: D["multipart"] extends object ? FormData | undefined : undefined;
+  /** The site a site-scoped route acts on (its id), as resolved for authorization. */
+  siteId: D["access"] extends { scope: "site" } ? number : undefined;
+  /** For a list of per-site rows: the sites whose rows the actor may read. */
+  siteScope: D["access"] extends { scope: "rows" } ? SiteScope : undefined;
+  /** Asks the same policy a finer question (e.g. whether to include a site's estimates). */
+  may: (action: Action, target?: ActionTarget) => Decision;
 }
 
 /** The second argument Next.js passes to a route handler. */
@@ -31,20 +43,32 @@ function isMultipart(request: Request): boolean {
 }
 
 /**
- * A Next.js route handler for `definition`: resolves the actor, parses path, query and body with
- * the definition's schemas, calls `handler` and sends its value as JSON with the definition's
- * status (a Response returned by the handler is sent as it is). Every thrown error becomes the
- * AppError JSON reply: bad input 422 with field errors, unknown ids 404, never a 500 for bad input.
+ * A Next.js route handler for `definition`, and the one place the JSON API enforces who may do
+ * what. In order: refuses a cross-site request that would change data (403) and resolves the
+ * actor from the bearer token or session cookie; refuses anonymous callers of every non-public
+ * route (401) before reading their input; parses path, query and body (or the upload form) with
+ * the definition's schemas; finds the target site of a site-scoped route (404 when it does not
+ * exist); asks the policy with the route's declared action (403 with the reason); then calls
+ * `handler` and sends its value as JSON with the definition's status (a Response returned by the
+ * handler is sent as it is). Every thrown error becomes the AppError JSON reply: bad input 422
+ * with field errors, unknown ids 404, never a 500 for bad input.
  */
 export function handleRoute<D extends RouteDefinition>(definition: D, handler: (input: RouteInput<D>) => Promise<unknown>): RouteHandler {
   return async (request, context) => {
     try {
-      const actor = await requestActor(request);
+      const db = getDb();
+      const actor = await requestActor(db, request);
+      const { access } = definition;
+      const settings: NetworkSettings = await readNetworkSettings(db);
+      if (access.scope !== "public") authorize(actor, "network.read", {}, settings);
       const params = (definition.params ? parsePathParams((await context?.params) ?? {}, definition.params) : undefined) as Parsed<D["params"]>;
       const query = (definition.query ? parseQuery(request.url, definition.query) : undefined) as Parsed<D["query"]>;
       let body: unknown;
       let bodyText: string | undefined;
-      if (definition.body && !(definition.multipart && isMultipart(request))) {
+      let form: FormData | undefined;
+      if (definition.multipart && isMultipart(request)) {
+        form = await readFormData(request);
+      } else if (definition.body) {
         if (definition.bodyOptional && !request.headers.get("content-type") && !request.body) {
           body = parseBody({}, definition.body);
         } else {
@@ -53,7 +77,26 @@ export function handleRoute<D extends RouteDefinition>(definition: D, handler: (
           body = parseBody(read.value, definition.body);
         }
       }
-      const result = await handler({ request, actor, params, query, body: body as Parsed<D["body"]>, bodyText });
+      let siteId: number | undefined;
+      let siteScope: SiteScope | undefined;
+      if (access.scope === "network") authorize(actor, access.action, {}, settings);
+      if (access.scope === "site") {
+        siteId = await resolveTargetSite(db, access.site, { params, body, form });
+        authorize(actor, access.action, { siteId }, settings);
+      }
+      if (access.scope === "rows") siteScope = readableSites(actor, access.action, settings);
+      const result = await handler({
+        request,
+        actor,
+        params,
+        query,
+        body: body as Parsed<D["body"]>,
+        bodyText,
+        form: form as RouteInput<D>["form"],
+        siteId: siteId as RouteInput<D>["siteId"],
+        siteScope: siteScope as RouteInput<D>["siteScope"],
+        may: (action, target = {}) => decide(actor, action, target, settings),
+      });
       if (result instanceof Response) return result;
       return Response.json(result, { status: definition.response.status });
     } catch (error) {

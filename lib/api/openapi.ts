@@ -3,6 +3,9 @@ import { HTTP_STATUS, type ErrorCode } from "../errors/app-error";
 import { ENGINE_VERSION } from "../analyses/engine-version";
 import { API_ROUTES } from "./routes";
 import type { RouteDefinition } from "./route-definition";
+import { describeAccess } from "./route-access";
+import { SESSION_COOKIE } from "../auth/sessions";
+import { API_TOKEN_PREFIX } from "../auth/api-tokens";
 import { RESPONSE_COMPONENTS } from "./schemas";
 import { siteInputSchema } from "../network/site-input";
 import { moderatorInputSchema, moderatorValueInputSchema } from "../network/moderator-input";
@@ -103,6 +106,10 @@ function parameters(route: RouteDefinition) {
 function errorCodesOf(route: RouteDefinition): ErrorCode[] {
   const codes = new Set<ErrorCode>(route.errors);
   if (route.params || route.query || route.body || route.multipart) codes.add("invalid_input");
+  if (route.access.scope !== "public") {
+    codes.add("unauthenticated");
+    codes.add("forbidden");
+  }
   codes.add("internal");
   return [...codes];
 }
@@ -133,12 +140,30 @@ function operation(route: RouteDefinition) {
     operationId: route.operationId,
     tags: [route.tag],
     summary: route.summary,
-    ...(route.description ? { description: route.description } : {}),
+    description: [route.description, describeAccess(route.access)].filter(Boolean).join("\n\n"),
+    // Public routes need no credentials; every other one takes either scheme (the document's default).
+    ...(route.access.scope === "public" ? { security: [] } : {}),
     parameters: parameters(route),
     ...(Object.keys(requestContent).length ? { requestBody: { required: true, content: requestContent } } : {}),
     responses: responses(route),
   };
 }
+
+/** How a caller signs in: the browser's session cookie, or an API token for scripts. */
+const SECURITY_SCHEMES = {
+  sessionCookie: {
+    type: "apiKey",
+    in: "cookie",
+    name: SESSION_COOKIE,
+    description:
+      "The session of a signed-in browser (HttpOnly, SameSite=Lax). Requests that change data with it must come from PhenoPool's own pages: cross-site requests are refused (403).",
+  },
+  bearerToken: {
+    type: "http",
+    scheme: "bearer",
+    description: `An API token (${API_TOKEN_PREFIX}...), created on the account's API tokens page and shown once; it acts with its user's role on its user's sites, and can be revoked.`,
+  },
+} as const;
 
 /** The whole document; `serverUrl` is where the API is served (default: the same origin). */
 export function buildOpenApiDocument(serverUrl = "/") {
@@ -154,10 +179,11 @@ export function buildOpenApiDocument(serverUrl = "/") {
       title: "PhenoPool API",
       version: ENGINE_VERSION,
       description:
-        "The JSON API of a PhenoPool network: sites, moderators, submissions with their provenance, brood records and estimates, analyses and their runs, and exports. Errors always have the shape {error: {code, message, fieldErrors}}.",
+        "The JSON API of a PhenoPool network: sites, moderators, submissions with their provenance, brood records and estimates, analyses and their runs, and exports. Every route but this document needs a signed-in caller (session cookie or API token); each operation's description says which role may call it. Errors always have the shape {error: {code, message, fieldErrors}}.",
     },
     servers: [{ url: serverUrl }],
+    security: [{ sessionCookie: [] }, { bearerToken: [] }],
     paths,
-    components: { schemas: components() },
+    components: { schemas: components(), securitySchemes: SECURITY_SCHEMES },
   };
 }

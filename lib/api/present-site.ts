@@ -23,8 +23,12 @@ export function presentSite(site: SiteRecord) {
   };
 }
 
-/** The site page's data as JSON: the site, its moderator values, current site-years and estimates (submissions: /api/v1/submissions?site=CODE). */
-export function presentSiteDetail(detail: SiteDetail) {
+/**
+ * The site page's data as JSON: the site, its moderator values, current site-years and estimates
+ * (submissions: /api/v1/submissions?site=CODE). `estimatesWithheld` is the policy's reason when
+ * the caller may not see pooled results: the estimates are then left out, and the reply says why.
+ */
+export function presentSiteDetail(detail: SiteDetail, estimatesWithheld: string | null) {
   const { site } = detail;
   return {
     site: presentSite(site),
@@ -46,7 +50,8 @@ export function presentSiteDetail(detail: SiteDetail) {
       broodCount: y.broodCount,
       submissionId: y.submissionId,
     })),
-    estimates: detail.estimates.map(({ siteId: _siteId, ...e }) => ({ ...e, siteCode: site.code, species: site.species.scientificName })),
+    estimates: estimatesWithheld === null ? detail.estimates.map(({ siteId: _siteId, ...e }) => ({ ...e, siteCode: site.code, species: site.species.scientificName })) : [],
+    estimatesWithheld,
     broodsByYear: detail.broodsByYear,
   };
 }

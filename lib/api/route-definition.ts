@@ -1,5 +1,6 @@
 import type { z } from "zod";
 import type { ErrorCode } from "../errors/app-error";
+import type { RouteAccess } from "./route-access";
 
 export type HttpMethod = "GET" | "POST" | "PUT" | "PATCH" | "DELETE";
 
@@ -23,7 +24,7 @@ export interface RouteDefinition {
   body?: z.ZodType;
   /** The body may be left out; it is then read as {}. */
   bodyOptional?: boolean;
-  /** Also accepts multipart/form-data with these fields (a file upload); the handler reads the form. */
+  /** Also accepts multipart/form-data with these fields (a file upload); handleRoute reads the form and hands it to the handler. */
   multipart?: { schema: z.ZodObject; description: string };
   response: {
     status: 200 | 201;
@@ -33,8 +34,10 @@ export interface RouteDefinition {
     /** Other media types the route can reply with, each with a description. */
     otherContent?: Record<string, string>;
   };
-  /** Error codes the route can answer with besides invalid_input and internal. */
+  /** Error codes the route can answer with besides invalid_input and internal (and, for signed-in routes, unauthenticated and forbidden). */
   errors: readonly ErrorCode[];
+  /** Who may call the route: enforced by handleRoute before the handler runs (required: no route without one). */
+  access: RouteAccess;
 }
 
 export function defineRoute<const D extends RouteDefinition>(definition: D): D {

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { defineRoute, type RouteDefinition } from "./route-definition";
 import * as out from "./schemas";
-import { siteCodeSchema, siteInputSchema } from "../network/site-input";
+import { siteCodeSchema, siteInputSchema, siteUpdateSchema } from "../network/site-input";
 import { moderatorInputSchema, moderatorKeySchema, moderatorValueInputSchema } from "../network/moderator-input";
 import { broodRecordFilterSchema, estimateFilterSchema, pageSchema } from "../network/record-filters";
 import { submissionFilterSchema } from "../submissions/list-submissions";
@@ -9,11 +9,13 @@ import { restoreSubmissionRequestSchema } from "../submissions/restore-submissio
 import { jsonSubmissionSchema } from "../submissions/submit-json-rows";
 import { uploadFormSchema } from "../submissions/upload-form";
 import { analysisSpecificationSchema } from "../analyses/specification";
+import { auditFilterSchema } from "../audit/list-audit";
 
 /**
  * Every route of the JSON API (/api/v1). Each app/api/v1/.../route.ts handler is built from one of
- * these (handleRoute), the OpenAPI document lists exactly these, and a test checks that the route
- * files on disk and this list agree.
+ * these (handleRoute, which enforces the route's `access` rule before its handler runs), the
+ * OpenAPI document lists exactly these, and a test checks that the route files on disk and this
+ * list agree.
  */
 /** Database ids are 32-bit integers on both engines. */
 const id = (what: string) =>
@@ -30,6 +32,7 @@ export const apiRoutes = {
     summary: "This API described as an OpenAPI 3.1 document",
     response: { status: 200, description: "The OpenAPI document.", json: out.openApiDocumentSchema },
     errors: [],
+    access: { scope: "public", why: "the description of the API holds no data" },
   }),
   listSites: defineRoute({
     operationId: "listSites",
@@ -39,6 +42,7 @@ export const apiRoutes = {
     summary: "Every site with its species, position and counts of current data",
     response: { status: 200, description: "The sites, by code, and network totals.", json: out.siteListSchema },
     errors: [],
+    access: { scope: "network", action: "network.read" },
   }),
   createSite: defineRoute({
     operationId: "createSite",
@@ -49,6 +53,7 @@ export const apiRoutes = {
     body: siteInputSchema,
     response: { status: 201, description: "The new site.", json: out.siteSchema },
     errors: ["conflict"],
+    access: { scope: "network", action: "site.create" },
   }),
   getSite: defineRoute({
     operationId: "getSite",
@@ -59,6 +64,20 @@ export const apiRoutes = {
     params: siteParams,
     response: { status: 200, description: "The site.", json: out.siteDetailSchema },
     errors: ["not_found"],
+    access: { scope: "network", action: "network.read" },
+  }),
+  updateSite: defineRoute({
+    operationId: "updateSite",
+    method: "PATCH",
+    path: "/api/v1/sites/{code}",
+    tag: "sites",
+    summary: "Change a site's metadata (name, position, elevation, habitat, study years, date convention, notes)",
+    description: "Only the fields given change; null clears an optional field. The code and the species stay as they are. A new date convention applies to later uploads (stored rows were converted on input).",
+    params: siteParams,
+    body: siteUpdateSchema,
+    response: { status: 200, description: "The site after the change.", json: out.siteSchema },
+    errors: ["not_found"],
+    access: { scope: "site", action: "site.update", site: { from: "path", param: "code" } },
   }),
   setModeratorValue: defineRoute({
     operationId: "setModeratorValue",
@@ -70,6 +89,7 @@ export const apiRoutes = {
     body: moderatorValueInputSchema,
     response: { status: 200, description: "The stored value.", json: out.moderatorValueSchema },
     errors: ["not_found"],
+    access: { scope: "site", action: "site.update", site: { from: "path", param: "code" } },
   }),
   listModerators: defineRoute({
     operationId: "listModerators",
@@ -79,6 +99,7 @@ export const apiRoutes = {
     summary: "Every site-level moderator (latitude is built in)",
     response: { status: 200, description: "The moderators, latitude first.", json: out.moderatorListSchema },
     errors: [],
+    access: { scope: "network", action: "network.read" },
   }),
   createModerator: defineRoute({
     operationId: "createModerator",
@@ -89,6 +110,7 @@ export const apiRoutes = {
     body: moderatorInputSchema,
     response: { status: 201, description: "The new moderator.", json: out.moderatorSchema },
     errors: ["conflict"],
+    access: { scope: "network", action: "moderator.manage" },
   }),
   listSubmissions: defineRoute({
     operationId: "listSubmissions",
@@ -99,6 +121,7 @@ export const apiRoutes = {
     query: submissionFilterSchema,
     response: { status: 200, description: "The submissions.", json: out.submissionListSchema },
     errors: [],
+    access: { scope: "network", action: "network.read" },
   }),
   createSubmission: defineRoute({
     operationId: "createSubmission",
@@ -112,6 +135,7 @@ export const apiRoutes = {
     multipart: { schema: uploadFormSchema, description: "A file upload: the file in 'file', the other fields as text (mapping as JSON)." },
     response: { status: 201, description: "The stored submission.", json: out.submissionWriteResultSchema },
     errors: ["not_found", "conflict", "too_large"],
+    access: { scope: "site", action: "submission.create", site: { from: "body", field: "siteCode" } },
   }),
   getSubmission: defineRoute({
     operationId: "getSubmission",
@@ -122,6 +146,7 @@ export const apiRoutes = {
     params: z.object({ id: id("submission") }),
     response: { status: 200, description: "The submission.", json: out.submissionSchema },
     errors: ["not_found"],
+    access: { scope: "network", action: "network.read" },
   }),
   restoreSubmission: defineRoute({
     operationId: "restoreSubmission",
@@ -134,6 +159,20 @@ export const apiRoutes = {
     bodyOptional: true,
     response: { status: 201, description: "The restore.", json: out.restoreResultSchema },
     errors: ["not_found", "conflict"],
+    access: { scope: "site", action: "submission.restore", site: { from: "submission", param: "id" } },
+  }),
+  withdrawSubmission: defineRoute({
+    operationId: "withdrawSubmission",
+    method: "DELETE",
+    path: "/api/v1/submissions/{id}",
+    tag: "submissions",
+    summary: "Withdraw (delete) a submission: its rows are no longer read as data; when it was the current one, the previous version becomes current again",
+    description:
+      "A soft delete: the submission keeps its rows and provenance with status withdrawn, and the audit trail records who withdrew it. Withdrawing one already withdrawn is 409.",
+    params: z.object({ id: id("submission") }),
+    response: { status: 200, description: "The withdrawn submission and what became current.", json: out.withdrawResultSchema },
+    errors: ["not_found", "conflict"],
+    access: { scope: "site", action: "submission.delete", site: { from: "submission", param: "id" } },
   }),
   listBroodRecords: defineRoute({
     operationId: "listBroodRecords",
@@ -144,6 +183,7 @@ export const apiRoutes = {
     query: broodRecordFilterSchema.extend(pageSchema.shape),
     response: { status: 200, description: "A page of brood records by site, year and female.", json: out.broodRecordPageSchema },
     errors: [],
+    access: { scope: "rows", action: "raw_records.read" },
   }),
   listEstimates: defineRoute({
     operationId: "listEstimates",
@@ -154,6 +194,7 @@ export const apiRoutes = {
     query: estimateFilterSchema.extend(pageSchema.shape),
     response: { status: 200, description: "A page of estimates by site, outcome, level, term and year.", json: out.estimatePageSchema },
     errors: [],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   listAnalyses: defineRoute({
     operationId: "listAnalyses",
@@ -163,6 +204,7 @@ export const apiRoutes = {
     summary: "Saved analyses, newest first",
     response: { status: 200, description: "The analyses with their runs.", json: out.analysisListSchema },
     errors: [],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   createAnalysis: defineRoute({
     operationId: "createAnalysis",
@@ -173,6 +215,7 @@ export const apiRoutes = {
     body: analysisSpecificationSchema,
     response: { status: 201, description: "The saved analysis, defaults filled in.", json: out.analysisSchema },
     errors: ["conflict"],
+    access: { scope: "network", action: "analysis.save" },
   }),
   getAnalysis: defineRoute({
     operationId: "getAnalysis",
@@ -183,6 +226,7 @@ export const apiRoutes = {
     params: z.object({ id: id("analysis") }),
     response: { status: 200, description: "The analysis.", json: out.analysisSchema },
     errors: ["not_found"],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   runAnalysis: defineRoute({
     operationId: "runAnalysis",
@@ -193,6 +237,7 @@ export const apiRoutes = {
     params: z.object({ id: id("analysis") }),
     response: { status: 201, description: "The stored run with its result.", json: out.analysisRunSchema },
     errors: ["not_found", "cannot_compute"],
+    access: { scope: "network", action: "analysis.run" },
   }),
   getAnalysisRun: defineRoute({
     operationId: "getAnalysisRun",
@@ -203,6 +248,7 @@ export const apiRoutes = {
     params: z.object({ id: id("analysis"), runId: id("run") }),
     response: { status: 200, description: "The run.", json: out.analysisRunSchema },
     errors: ["not_found"],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   exportEstimates: defineRoute({
     operationId: "exportEstimates",
@@ -218,6 +264,7 @@ export const apiRoutes = {
       otherContent: { "text/csv": "One row per estimate; spreadsheet formulas neutralised (see the data package description)." },
     },
     errors: [],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   exportBroodRecords: defineRoute({
     operationId: "exportBroodRecords",
@@ -233,6 +280,7 @@ export const apiRoutes = {
       otherContent: { "text/csv": "One row per brood." },
     },
     errors: [],
+    access: { scope: "rows", action: "raw_records.read" },
   }),
   exportAnalysisRun: defineRoute({
     operationId: "exportAnalysisRun",
@@ -249,6 +297,7 @@ export const apiRoutes = {
       otherContent: { "text/csv": "The chosen table of the result." },
     },
     errors: ["not_found"],
+    access: { scope: "network", action: "pooled_results.read" },
   }),
   exportDataPackage: defineRoute({
     operationId: "exportDataPackage",
@@ -262,6 +311,23 @@ export const apiRoutes = {
       otherContent: { "application/zip": "datapackage.json (Table Schema per resource, primary and foreign keys) and one CSV per resource." },
     },
     errors: [],
+    access: { scope: "network", action: "network.export" },
+  }),
+  exportAudit: defineRoute({
+    operationId: "exportAudit",
+    method: "GET",
+    path: "/api/v1/export/audit",
+    tag: "export",
+    summary: "The audit trail (every change: who, when, what, before and after, SHA-256 of uploads), filtered, as CSV or JSON",
+    query: auditFilterSchema.extend(exportFormat),
+    response: {
+      status: 200,
+      description: "Every matching entry, newest first.",
+      json: z.array(out.auditEntrySchema),
+      otherContent: { "text/csv": "One row per entry; before and after as JSON text." },
+    },
+    errors: [],
+    access: { scope: "network", action: "audit.read" },
   }),
 } satisfies Record<string, RouteDefinition>;
 

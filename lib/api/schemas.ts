@@ -11,6 +11,7 @@ import {
 import { analysisSpecificationSchema } from "../analyses/specification";
 import { dateConventionSchema } from "../network/site-input";
 import { moderatorKindSchema } from "../network/moderator-input";
+import { submissionStatusSchema } from "../submissions/list-submissions";
 
 /**
  * The JSON replies of the API, as they arrive at a client (timestamps as ISO 8601 text). The
@@ -98,7 +99,7 @@ export const submissionSchema = z.object({
   rowCount: count,
   submittedBy: z.string().nullable(),
   submittedAt: timestamp,
-  status: z.enum(["accepted", "superseded"]),
+  status: submissionStatusSchema,
   supersedesId: z.number().int().nullable(),
   supersededById: z.number().int().nullable(),
 });
@@ -109,6 +110,12 @@ export const submissionWriteResultSchema = z.object({
   supersededId: z.number().int().nullable().describe("The submission this one replaced as the site's current one of its kind."),
   unchanged: z.boolean().describe("True when the rows equal the current submission's: nothing was written (HTTP 200 instead of 201)."),
   recomputeJobId: z.number().int().nullable().describe("The queued recomputation of the site's estimates, if the submission calls for one."),
+});
+
+export const withdrawResultSchema = z.object({
+  submission: submissionSchema.describe("The withdrawn submission (status withdrawn)."),
+  reinstatedId: z.number().int().nullable().describe("The earlier submission made current again, when the withdrawn one was the site's current one."),
+  recomputeJobId: z.number().int().nullable().describe("The queued recomputation of the site's estimates, if the change calls for one."),
 });
 
 export const jobSchema = z.object({
@@ -195,6 +202,7 @@ export const siteDetailSchema = z.object({
     }),
   ),
   estimates: z.array(estimateSchema),
+  estimatesWithheld: z.string().nullable().describe("Why `estimates` is empty although the site may have some: the network does not show pooled results to the caller. Null when they are shown."),
   broodsByYear: z.array(z.object({ year: z.number().int(), broods: count })),
 });
 
@@ -225,6 +233,19 @@ export const analysisRunSchema = z.object({
   result: z.record(z.string(), z.unknown()).describe("The stored result: specification, selected studies and the fitted model."),
 });
 
+export const auditEntrySchema = z.object({
+  id: z.number().int(),
+  at: timestamp,
+  actorUserId: z.number().int().nullable(),
+  actorLabel: z.string().describe("Who acted, as named when they did."),
+  action: z.string(),
+  entityType: z.string(),
+  entityId: z.string().nullable(),
+  before: z.unknown().describe("Summary of the changed thing before the change (null for a creation)."),
+  after: z.unknown().describe("Summary after the change."),
+  sha256: z.string().nullable().describe("SHA-256 of an uploaded file."),
+});
+
 export const openApiDocumentSchema = z.looseObject({ openapi: z.string(), info: z.looseObject({ title: z.string(), version: z.string() }), paths: z.record(z.string(), z.unknown()) });
 
 /** Names of the response components in the OpenAPI document. */
@@ -242,6 +263,8 @@ export const RESPONSE_COMPONENTS: Record<string, z.ZodType> = {
   SubmissionWriteResult: submissionWriteResultSchema,
   Job: jobSchema,
   RestoreResult: restoreResultSchema,
+  WithdrawResult: withdrawResultSchema,
+  AuditEntry: auditEntrySchema,
   BroodRecord: broodRecordSchema,
   BroodRecordPage: broodRecordPageSchema,
   Estimate: estimateSchema,

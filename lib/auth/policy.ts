@@ -26,6 +26,7 @@ export const ACTIONS = [
   "user.manage",
   "settings.manage",
   "audit.read",
+  "network.export",
   "token.manage_own",
 ] as const;
 export type Action = (typeof ACTIONS)[number];
@@ -69,6 +70,45 @@ export function decide(actor: Actor, action: Action, target: ActionTarget, visib
     default:
       return deny(`only the coordinator may ${action.replace(/[._]/g, " ")}`);
   }
+}
+
+/** Who may do each action, in words: for the API description and the pages' explanations. */
+export const ACTION_ACCESS: Readonly<Record<Action, string>> = {
+  "network.read": "any signed-in account",
+  "site.create": "the coordinator",
+  "site.update": "the coordinator, or the site's lead",
+  "site.delete": "the coordinator",
+  "submission.create": "the coordinator, or the site's lead",
+  "submission.restore": "the coordinator, or the site's lead",
+  "submission.delete": "the coordinator, or the site's lead",
+  "raw_records.read":
+    "the coordinator and each site's lead for their own sites; every signed-in account when the network shares raw records (setting other_sites_raw_records_visible, off by default)",
+  "pooled_results.read": "the coordinator; site leads and viewers too while the network shows pooled results (setting pooled_results_visible, on by default)",
+  "analysis.save": "the coordinator",
+  "analysis.run": "the coordinator",
+  "moderator.manage": "the coordinator",
+  "user.manage": "the coordinator",
+  "settings.manage": "the coordinator",
+  "audit.read": "the coordinator",
+  "network.export": "the coordinator",
+  "token.manage_own": "any signed-in account",
+};
+
+/** The sites whose rows an actor may read with a per-site action: every site, or only these (with the reason for the others). */
+export type SiteScope = { allSites: true } | { allSites: false; siteIds: readonly number[]; reason: string };
+
+/** No site has id 0: a site the actor certainly does not lead, to ask the policy about "other" sites. */
+const SOME_OTHER_SITE = 0;
+
+/**
+ * The sites an actor may read rows of with `action` (for lists of records), derived from `decide`
+ * so lists and single reads follow the same rules. Example: a site lead of site 4 in a network
+ * that does not share raw records gets { allSites: false, siteIds: [4], reason }.
+ */
+export function readableSites(actor: Actor, action: Action, visibility: Visibility): SiteScope {
+  const other = decide(actor, action, { siteId: SOME_OTHER_SITE }, visibility);
+  if (other.allowed) return { allSites: true };
+  return { allSites: false, siteIds: actor.siteIds.filter((siteId) => decide(actor, action, { siteId }, visibility).allowed), reason: other.reason };
 }
 
 /** Throws unauthenticated (no actor) or forbidden (with the reason) unless the policy allows. */

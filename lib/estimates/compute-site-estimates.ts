@@ -117,31 +117,43 @@ export function computeSiteEstimates(
   const yearsUsed = [...centred.groupMeans.keys()].sort((a, b) => a - b);
   const definitions = `Definitions: ${describeMismatch(definition)}; ${CENTRING}; ${DATES}.`;
 
+  // Each usable brood's position among the sorted years, for grouping without per-brood maps.
+  const yearSlotOf = new Map(yearsUsed.map((year, slot) => [year, slot]));
+  const slotOf = new Int32Array(usable.length);
+  for (let i = 0; i < usable.length; i += 1) slotOf[i] = yearSlotOf.get(yearOf[i]!)!;
+
   const designs: DesignCache = new Map();
+  const selected = new Int32Array(usable.length);
   for (const outcome of BROOD_OUTCOMES) {
-    const rows: number[] = [];
-    for (let i = 0; i < usable.length; i += 1) if (outcome.includes(usable[i]!)) rows.push(i);
+    let count = 0;
+    for (let i = 0; i < usable.length; i += 1) if (outcome.includes(usable[i]!)) selected[count++] = i;
     const data: MismatchModelData = {
-      year: new Int32Array(rows.length),
-      within: new Float64Array(rows.length),
-      response: new Float64Array(rows.length),
+      year: new Int32Array(count),
+      within: new Float64Array(count),
+      response: new Float64Array(count),
       broods: outcome.broods,
     };
-    for (let k = 0; k < rows.length; k += 1) {
-      data.year[k] = yearOf[rows[k]!]!;
-      data.within[k] = centred.within[rows[k]!]!;
-      data.response[k] = outcome.response(usable[rows[k]!]!);
+    // Per year (by slot): number of broods and sum of the outcome; then the broods' positions grouped by year.
+    const broodsInYear = new Int32Array(yearsUsed.length);
+    const outcomeSum = new Float64Array(yearsUsed.length);
+    for (let k = 0; k < count; k += 1) {
+      const i = selected[k]!;
+      data.year[k] = yearOf[i]!;
+      data.within[k] = centred.within[i]!;
+      data.response[k] = outcome.response(usable[i]!);
+      broodsInYear[slotOf[i]!] += 1;
+      outcomeSum[slotOf[i]!] += data.response[k]!;
     }
+    const yearStart = new Int32Array(yearsUsed.length + 1);
+    for (let slot = 0; slot < yearsUsed.length; slot += 1) yearStart[slot + 1] = yearStart[slot]! + broodsInYear[slot]!;
+    const byYear = new Int32Array(count);
+    const cursor = yearStart.slice(0, yearsUsed.length);
+    for (let k = 0; k < count; k += 1) byYear[cursor[slotOf[selected[k]!]!]!++] = k;
     const link = outcome.family.link;
-    const rowsByYear = new Map<number, number[]>();
-    for (let k = 0; k < data.year.length; k += 1) {
-      const list = rowsByYear.get(data.year[k]!);
-      if (list) list.push(k);
-      else rowsByYear.set(data.year[k]!, [k]);
-    }
-    const record = (year: number | null) => {
-      const subset = year === null ? data : subsetRows(data, rowsByYear.get(year)!, year);
-      const result = rows.length ? fitMismatchGlm(outcome, subset, year !== null, minimumBroods, designs) : ({ ok: false, reason: "no broods for this outcome" } as const);
+    const record = (slot: number | null) => {
+      const year = slot === null ? null : yearsUsed[slot]!;
+      const subset = slot === null ? data : subsetRows(data, byYear.subarray(yearStart[slot]!, yearStart[slot + 1]!), year!);
+      const result = count ? fitMismatchGlm(outcome, subset, year !== null, minimumBroods, designs) : ({ ok: false, reason: "no broods for this outcome" } as const);
       if (!result.ok) {
         refused.push({ outcome: outcome.name, level: "within_year", year, reason: result.reason });
         return;
@@ -166,16 +178,13 @@ export function computeSiteEstimates(
       }
     };
     record(null);
-    for (const year of yearsUsed) if (rowsByYear.has(year)) record(year);
+    for (let slot = 0; slot < yearsUsed.length; slot += 1) if (broodsInYear[slot]! > 0) record(slot);
 
     // Between-year effect: annual mean outcome on annual mean mismatch, weighted by broods.
     const perYear = new Map<number, { count: number; sum: number }>();
-    for (let k = 0; k < data.year.length; k += 1) {
-      const entry = perYear.get(data.year[k]!) ?? { count: 0, sum: 0 };
-      entry.count += 1;
-      entry.sum += data.response[k]!;
-      perYear.set(data.year[k]!, entry);
-    }
+    yearsUsed.forEach((year, slot) => {
+      if (broodsInYear[slot]! > 0) perYear.set(year, { count: broodsInYear[slot]!, sum: outcomeSum[slot]! });
+    });
     const betweenYears = [...perYear.keys()].sort((a, b) => a - b);
     if (betweenYears.length < 3) {
       refused.push({ outcome: outcome.name, level: "between_year", year: null, reason: `${betweenYears.length} years with broods; a between-year slope with a standard error needs at least 3` });
@@ -252,7 +261,7 @@ export function computeSiteEstimates(
   return { estimates, refused, warnings: siteWarnings, broodsUsed: usable.length, yearsUsed, offsetDays, basis };
 }
 
-function subsetRows(data: MismatchModelData, rows: readonly number[], year: number): MismatchModelData {
+function subsetRows(data: MismatchModelData, rows: ArrayLike<number>, year: number): MismatchModelData {
   const subset = { broods: `${data.broods}:${year}`, year: new Int32Array(rows.length), within: new Float64Array(rows.length), response: new Float64Array(rows.length) };
   for (let k = 0; k < rows.length; k += 1) {
     subset.year[k] = data.year[rows[k]!]!;

@@ -141,7 +141,7 @@ export const PACKAGE_RESOURCES: readonly PackageResourceSchema[] = [
       integer("rowCount", "Data rows in the submission."),
       optionalText("submittedBy", "E-mail of the submitter (users.email)."),
       timestamp("submittedAt", "When it was submitted (UTC)."),
-      choice("status", ["accepted", "superseded"], "accepted: the site's current submission of its kind; superseded: an earlier one, kept."),
+      choice("status", ["accepted", "superseded", "withdrawn"], "accepted: the site's current submission of its kind; superseded: an earlier one, kept; withdrawn: deleted by its site's lead or the coordinator, kept for the record."),
       optionalText("supersedes", "The submission this one replaced (submissions.submission)."),
     ],
     primaryKey: ["submission"],

@@ -16,8 +16,8 @@ export function checkRow<S extends z.ZodObject>(schema: S, candidate: Record<str
   if (reader.failed) {
     const shape = schema.shape as Record<string, z.ZodType>;
     for (const [schemaField, value] of Object.entries(candidate)) {
-      const origin = reader.origins[schemaField];
-      if (origin && reader.failures.has(origin.field)) continue;
+      const origin = reader.origin(schemaField);
+      if (origin && reader.hasFailed(origin.field)) continue;
       if (value === undefined) continue;
       const fieldSchema = shape[schemaField];
       if (!fieldSchema) continue;
@@ -33,7 +33,7 @@ export function checkRow<S extends z.ZodObject>(schema: S, candidate: Record<str
 }
 
 function report(reader: RecordReader, schemaField: string, message: string): void {
-  const origin = reader.origins[schemaField];
+  const origin = reader.origin(schemaField);
   const converted = DAY_FIELDS.has(schemaField) && reader.context.convention === "apr1";
   const reason = converted ? `${message} (days of the year counted from 1 January, converted from the site's 1 April days)` : message;
   reader.fail(origin?.field ?? schemaField, reason, origin ? { value: origin.value } : {});

@@ -25,7 +25,11 @@ function uniqueIndexOf(headings: readonly string[], wanted: string, taken: Set<n
   const key = normaliseHeading(wanted);
   if (!key) return -1;
   const matches = headings.flatMap((h, i) => (!taken.has(i) && normaliseHeading(h) === key ? [i] : []));
-  return matches.length === 1 ? matches[0]! : -1;
+  if (matches.length === 1) return matches[0]!;
+  if (matches.length > 1) return -1;
+  // "Spring temp (C)" still names the spring temperature: try again without a bracketed unit.
+  const unbracketed = headings.flatMap((h, i) => (!taken.has(i) && normaliseHeading(h.replace(/\([^)]*\)|\[[^\]]*\]/g, "")) === key ? [i] : []));
+  return unbracketed.length === 1 ? unbracketed[0]! : -1;
 }
 
 /**

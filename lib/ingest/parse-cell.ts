@@ -10,7 +10,13 @@ const MISSING = new Set(["", "na", "n/a", "#n/a"]);
 
 /** Whether a cell holds no value. */
 export function isEmptyCell(cell: CellValue): boolean {
-  return cell === null || (typeof cell === "string" && MISSING.has(cell.trim().toLowerCase()));
+  if (cell === null) return true;
+  if (typeof cell !== "string") return false;
+  if (cell.length === 0) return true;
+  // Most cells start with a digit or letter that no missing-value marker starts with: answer without allocating.
+  const first = cell.charCodeAt(0);
+  if ((first >= 48 && first <= 57) || (cell.length > 4 && first !== 32 && first !== 9)) return false;
+  return MISSING.has(cell.trim().toLowerCase());
 }
 
 /** The cell as the user wrote it, for messages. */

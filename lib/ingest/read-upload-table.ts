@@ -1,5 +1,6 @@
 import { Readable } from "node:stream";
 import ExcelJS from "exceljs";
+import JSZip from "jszip";
 import { z } from "zod";
 import { DelimitedTokenizer, detectDelimiter, type Delimiter, type QuotingIssue } from "./delimited-tokenizer";
 import { FILE_COLUMN } from "./upload-problem";
@@ -183,28 +184,90 @@ export function normaliseWorkbookCell(value: unknown): CellValue {
   return String(value);
 }
 
+interface WorkbookSheet {
+  name: string;
+  /** The number of the sheet's part, xl/worksheets/sheetN.xml. */
+  partNumber: string;
+}
+
+function xmlAttribute(tag: string, name: string): string | undefined {
+  const match = new RegExp(`\\s${name}="([^"]*)"`).exec(tag);
+  return match ? decodeXml(match[1]!) : undefined;
+}
+
+function decodeXml(text: string): string {
+  return text.replace(/&(lt|gt|quot|apos|amp|#\d+|#x[0-9a-fA-F]+);/g, (_, entity: string) => {
+    if (entity === "lt") return "<";
+    if (entity === "gt") return ">";
+    if (entity === "quot") return '"';
+    if (entity === "apos") return "'";
+    if (entity === "amp") return "&";
+    return String.fromCodePoint(entity.startsWith("#x") ? parseInt(entity.slice(2), 16) : parseInt(entity.slice(1), 10));
+  });
+}
+
+/** The workbook's sheets in tab order, from xl/workbook.xml and its relationships. */
+async function listSheets(zip: JSZip): Promise<WorkbookSheet[]> {
+  const workbookXml = await zip.file("xl/workbook.xml")?.async("string");
+  const relsXml = await zip.file("xl/_rels/workbook.xml.rels")?.async("string");
+  if (workbookXml === undefined || relsXml === undefined) throw new Error("no xl/workbook.xml: not a spreadsheet workbook");
+  const targets = new Map<string, string>();
+  for (const tag of relsXml.match(/<(\w+:)?Relationship\s[^>]*>/g) ?? []) {
+    const id = xmlAttribute(tag, "Id");
+    const target = xmlAttribute(tag, "Target");
+    if (id && target) targets.set(id, target);
+  }
+  const sheets: WorkbookSheet[] = [];
+  for (const tag of workbookXml.match(/<(\w+:)?sheet\s[^>]*>/g) ?? []) {
+    const name = xmlAttribute(tag, "name");
+    const relation = xmlAttribute(tag, "r:id") ?? xmlAttribute(tag, "[\\w]+:id");
+    const part = relation ? /worksheets\/sheet(\d+)\.xml$/.exec(targets.get(relation) ?? "") : null;
+    if (name !== undefined && part) sheets.push({ name, partNumber: part[1]! });
+  }
+  return sheets;
+}
+
 async function readWorkbook(
   fileName: string,
   chunks: AsyncIterable<Uint8Array>,
   options: TableReadOptions,
   handlers: TableHandlers,
 ): Promise<TableInfo> {
-  const input = Readable.from(chunks);
-  const sheets: string[] = [];
-  let chosen: string | null = null;
-  const wanted = options.sheet?.trim().toLowerCase();
+  const parts: Uint8Array[] = [];
+  for await (const chunk of chunks) parts.push(chunk);
+  // The zip's directory is at its end, so a workbook is held whole (within the size limit); its
+  // sheet is then read row by row.
+  const bytes = Buffer.concat(parts);
+  parts.length = 0;
+  const problem = (reason: string) => new UploadFileError({ file: fileName, row: 0, column: FILE_COLUMN, reason });
+  const failure = (error: unknown) => problem(`the workbook cannot be read as .xlsx (${error instanceof Error ? error.message : String(error)})`);
+  let sheets: WorkbookSheet[];
   try {
-    const reader = new ExcelJS.stream.xlsx.WorkbookReader(input, {
+    sheets = await listSheets(await JSZip.loadAsync(bytes));
+  } catch (error) {
+    throw failure(error);
+  }
+  if (sheets.length === 0) throw problem("the workbook has no sheets");
+  const wanted = options.sheet?.trim().toLowerCase();
+  const chosen = wanted === undefined ? sheets[0]! : sheets.find((s) => s.name.trim().toLowerCase() === wanted);
+  if (!chosen) {
+    throw problem(`the workbook has no sheet named "${options.sheet}"; its sheets are ${sheets.map((s) => `"${s.name}"`).join(", ")}`);
+  }
+  try {
+    const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from([bytes]), {
       sharedStrings: "cache",
       styles: "cache",
       hyperlinks: "ignore",
       worksheets: "emit",
-      entries: "ignore",
+      entries: "emit",
+    });
+    // The reader announces each worksheet's part just before it hands the worksheet over.
+    let partNumber = "";
+    (reader as unknown as NodeJS.EventEmitter).on("entry", (entry: { type?: string; id?: unknown }) => {
+      if (entry.type === "worksheet") partNumber = String(entry.id);
     });
     for await (const worksheet of reader) {
-      const name = String((worksheet as unknown as { name?: string }).name ?? `Sheet${sheets.length + 1}`);
-      sheets.push(name);
-      const take = chosen === null && (wanted === undefined || name.trim().toLowerCase() === wanted);
+      const take = partNumber === chosen.partNumber;
       let headingLine = 0;
       let batch: TableRecord[] = [];
       for await (const row of worksheet) {
@@ -226,29 +289,11 @@ async function readWorkbook(
           batch = [];
         }
       }
-      if (take) {
-        chosen = name;
-        if (batch.length) await handlers.onRecords(batch);
-      }
+      if (take && batch.length) await handlers.onRecords(batch);
     }
   } catch (error) {
     if (error instanceof UploadFileError) throw error;
-    throw new UploadFileError({
-      file: fileName,
-      row: 0,
-      column: FILE_COLUMN,
-      reason: `the workbook cannot be read as .xlsx (${error instanceof Error ? error.message : String(error)})`,
-    });
+    throw failure(error);
   }
-  if (chosen === null) {
-    throw new UploadFileError({
-      file: fileName,
-      row: 0,
-      column: FILE_COLUMN,
-      reason: sheets.length
-        ? `the workbook has no sheet named "${options.sheet}"; its sheets are ${sheets.map((s) => `"${s}"`).join(", ")}`
-        : "the workbook has no sheets",
-    });
-  }
-  return { format: "xlsx", delimiter: null, delimiterDetected: false, byteOrderMark: false, sheet: chosen, sheets };
+  return { format: "xlsx", delimiter: null, delimiterDetected: false, byteOrderMark: false, sheet: chosen.name, sheets: sheets.map((s) => s.name) };
 }

@@ -28,8 +28,9 @@ export interface FieldOrigin {
  * or undefined when it reported a problem.
  */
 export class RecordReader {
-  readonly origins: Record<string, FieldOrigin> = {};
-  private failedFields = new Set<string>();
+  /** Schema field -> the upload field whose column it was read from. */
+  private readonly traced = new Map<string, string>();
+  private failedFields: Set<string> | null = null;
 
   constructor(
     readonly record: TableRecord,
@@ -40,12 +41,12 @@ export class RecordReader {
 
   /** Whether any cell of the row could not be read. */
   get failed(): boolean {
-    return this.failedFields.size > 0;
+    return this.failedFields !== null;
   }
 
-  /** Fields whose cell could not be read. */
-  get failures(): ReadonlySet<string> {
-    return this.failedFields;
+  /** Whether `field`'s cell could not be read. */
+  hasFailed(field: string): boolean {
+    return this.failedFields?.has(field) ?? false;
   }
 
   has(field: string): boolean {
@@ -64,13 +65,19 @@ export class RecordReader {
 
   /** Records that schema field `schemaField` was read from `field`'s column. */
   trace(schemaField: string, field: string): void {
-    if (!this.columns.has(field)) return;
-    this.origins[schemaField] = { column: this.heading(field), field, value: cellText(this.cell(field)) };
+    if (this.columns.has(field)) this.traced.set(schemaField, field);
+  }
+
+  /** The column and cell schema field `schemaField` was read from, if it was traced. */
+  origin(schemaField: string): FieldOrigin | undefined {
+    const field = this.traced.get(schemaField);
+    if (field === undefined) return undefined;
+    return { column: this.heading(field), field, value: cellText(this.cell(field)) };
   }
 
   /** Reports a problem with `field`'s cell (or the row, when the field has no column). */
   fail(field: string, reason: string, options: { value?: string } = {}): undefined {
-    this.failedFields.add(field);
+    (this.failedFields ??= new Set()).add(field);
     const mapped = this.columns.has(field);
     const value = options.value ?? (mapped ? cellText(this.cell(field)) : undefined);
     this.problems.push({

@@ -13,7 +13,12 @@ import type { SubmissionKindName } from "./schemas/vocabulary";
 export interface KindRules<T> {
   kind: SubmissionKindName;
   schema: z.ZodType<T, unknown>;
+  /** The natural key as one string (parts joined by KEY_SEPARATOR). */
   keyOf: (row: T) => string;
+  /** The key's fields back from keyOf's string (to describe a removed row). */
+  rowOfKey: (key: string) => Partial<T>;
+  /** The key in two parts, for finding repeats in large files quickly (see DuplicateKeyTracker). */
+  keyParts?: (row: T) => readonly [string | number, string];
   /** The key in words: "female F-203 in 2011". */
   describeKey: (row: T) => string;
   describeDuplicate: (row: T, firstRow: number) => string;
@@ -25,10 +30,18 @@ export interface KindRules<T> {
   comparedFields: readonly (keyof T & string)[];
 }
 
+/** Joins the parts of a natural key: a control character no heading, code or ring contains. */
+export const KEY_SEPARATOR = "\u001f";
+
 export const BROOD_RECORD_RULES: KindRules<BroodRecordRow> = {
   kind: "brood_records",
   schema: broodRecordRowSchema,
-  keyOf: (r) => `${r.year}\u0000${r.femaleId}`,
+  keyOf: (r) => `${r.year}${KEY_SEPARATOR}${r.femaleId}`,
+  rowOfKey: (key) => {
+    const at = key.indexOf(KEY_SEPARATOR);
+    return { year: Number(key.slice(0, at)), femaleId: key.slice(at + 1) };
+  },
+  keyParts: (r) => [r.year, r.femaleId],
   describeKey: (r) => `female ${r.femaleId} in ${r.year}`,
   describeDuplicate: (r, first) => `female ${r.femaleId} has two broods in ${r.year} (first at row ${first})`,
   duplicateField: "femaleId",
@@ -40,6 +53,7 @@ export const SITE_YEAR_RULES: KindRules<SiteYearRow> = {
   kind: "site_year_covariates",
   schema: siteYearRowSchema,
   keyOf: (r) => String(r.year),
+  rowOfKey: (key) => ({ year: Number(key) }),
   describeKey: (r) => `year ${r.year}`,
   describeDuplicate: (r, first) => `year ${r.year} appears twice (first at row ${first})`,
   duplicateField: "year",
@@ -50,7 +64,11 @@ export const SITE_YEAR_RULES: KindRules<SiteYearRow> = {
 export const ESTIMATE_RULES: KindRules<EstimateRow> = {
   kind: "estimates",
   schema: estimateRowSchema,
-  keyOf: (r) => [r.outcome, r.level, r.term, r.year ?? "site"].join("\u0000"),
+  keyOf: (r) => [r.outcome, r.level, r.term, r.year ?? "site"].join(KEY_SEPARATOR),
+  rowOfKey: (key) => {
+    const [outcome, level, term, year] = key.split(KEY_SEPARATOR) as [EstimateRow["outcome"], EstimateRow["level"], EstimateRow["term"], string];
+    return { outcome, level, term, year: year === "site" ? null : Number(year) };
+  },
   describeKey: (r) => `${r.outcome} ${r.level} ${r.term} ${r.year === null ? "for the whole site" : `in ${r.year}`}`,
   describeDuplicate: (r, first) => `estimate ${r.outcome} ${r.level} ${r.term} for ${r.year ?? "the whole site"} appears twice (first at row ${first})`,
   duplicateField: "outcome",
@@ -70,18 +88,21 @@ export const KIND_RULES: { [K in SubmissionKindName]: KindRules<RowsOfKind[K]> }
   estimates: ESTIMATE_RULES,
 };
 
-/** The key and compared values of a row as one compact string: equal strings mean equal rows. */
+/**
+ * The compared values of a row as one compact string (JSON of comparedFields in order): equal
+ * strings mean the rows do not differ. For brood records every compared value is a whole number
+ * or null, so the database can write the same string (see readBroodRecordSnapshots).
+ */
 export function rowSnapshot<T>(rules: KindRules<T>, row: T): string {
   const values: unknown[] = [];
-  for (const field of rules.keyFields) values.push(row[field] ?? null);
   for (const field of rules.comparedFields) values.push(row[field] ?? null);
   return JSON.stringify(values);
 }
 
-/** The row a snapshot was taken of (its key and compared fields). */
-export function rowFromSnapshot<T>(rules: KindRules<T>, snapshot: string): T {
+/** The row behind a key and a snapshot (its key fields and compared fields). */
+export function rowFromSnapshot<T>(rules: KindRules<T>, key: string, snapshot: string): T {
   const values = JSON.parse(snapshot) as unknown[];
-  const row: Record<string, unknown> = {};
-  [...rules.keyFields, ...rules.comparedFields].forEach((field, i) => (row[field] = values[i]));
+  const row: Record<string, unknown> = { ...rules.rowOfKey(key) };
+  rules.comparedFields.forEach((field, i) => (row[field] = values[i]));
   return row as T;
 }

@@ -1,4 +1,6 @@
 import type { Db } from "../db/client";
+import type { Actor } from "../auth/actor";
+import { recordAudit } from "../audit/record-audit";
 import { AppError } from "../errors/app-error";
 import { LATITUDE_MODERATOR_KEY, type ModeratorInput, type ModeratorValueInput } from "./moderator-input";
 
@@ -42,21 +44,25 @@ export async function listModerators(db: Db): Promise<ModeratorSummary[]> {
   return [latitude, ...stored.filter((m) => m.key !== LATITUDE_MODERATOR_KEY)];
 }
 
-/** Adds a moderator. Throws AppError conflict when the key is taken. */
-export async function createModerator(db: Db, input: ModeratorInput): Promise<ModeratorSummary> {
-  if (await db.moderator.findUnique({ where: { key: input.key }, select: { id: true } })) {
-    throw new AppError("conflict", `moderator ${input.key} already exists`, [{ field: "key", message: "already in use", value: input.key }]);
-  }
-  const created = await db.moderator.create({ data: { ...input, builtIn: false } });
-  return { key: created.key, label: created.label, unit: created.unit, kind: created.kind, description: created.description, builtIn: false, siteCount: 0 };
+/** Adds a moderator, with its audit entry in the same transaction. Throws AppError conflict when the key is taken. */
+export async function createModerator(db: Db, input: ModeratorInput, actor: Actor): Promise<ModeratorSummary> {
+  return db.$transaction(async (tx) => {
+    if (await tx.moderator.findUnique({ where: { key: input.key }, select: { id: true } })) {
+      throw new AppError("conflict", `moderator ${input.key} already exists`, [{ field: "key", message: "already in use", value: input.key }]);
+    }
+    const created = await tx.moderator.create({ data: { ...input, builtIn: false } });
+    await recordAudit(tx, actor, { action: "moderator.create", entityType: "Moderator", entityId: created.key, after: input });
+    return { key: created.key, label: created.label, unit: created.unit, kind: created.kind, description: created.description, builtIn: false, siteCount: 0 };
+  });
 }
 
 /**
- * Sets (creates or replaces) one site's value of a moderator. The value must match the
- * moderator's kind. Throws not_found for an unknown site or moderator, invalid_input for latitude
- * (edit the site's latitude instead) or a value of the wrong kind.
+ * Sets (creates or replaces) one site's value of a moderator, with an audit entry holding the
+ * value before and after, in one transaction. The value must match the moderator's kind.
+ * Throws not_found for an unknown site or moderator, invalid_input for latitude (edit the site's
+ * latitude instead) or a value of the wrong kind.
  */
-export async function setModeratorValue(db: Db, siteCode: string, moderatorKey: string, input: ModeratorValueInput) {
+export async function setModeratorValue(db: Db, siteCode: string, moderatorKey: string, input: ModeratorValueInput, actor: Actor) {
   if (moderatorKey === LATITUDE_MODERATOR_KEY) {
     throw new AppError("invalid_input", "latitude is the site's own latitude; change the site record instead", [
       { field: "key", message: "latitude cannot be set as a moderator value", value: moderatorKey },
@@ -77,10 +83,15 @@ export async function setModeratorValue(db: Db, siteCode: string, moderatorKey: 
     ]);
   }
   const data = { ...input };
-  const saved = await db.moderatorValue.upsert({
-    where: { moderatorId_siteId: { moderatorId: moderator.id, siteId: site.id } },
-    create: { ...data, moderatorId: moderator.id, siteId: site.id },
-    update: data,
+  const where = { moderatorId_siteId: { moderatorId: moderator.id, siteId: site.id } };
+  const saved = await db.$transaction(async (tx) => {
+    const previous = await tx.moderatorValue.findUnique({
+      where,
+      select: { numericValue: true, categoricalValue: true, standardError: true, source: true, method: true },
+    });
+    const written = await tx.moderatorValue.upsert({ where, create: { ...data, moderatorId: moderator.id, siteId: site.id }, update: data });
+    await recordAudit(tx, actor, { action: "moderator_value.set", entityType: "ModeratorValue", entityId: `${siteCode}/${moderatorKey}`, before: previous, after: data });
+    return written;
   });
   return { siteCode, moderatorKey, numericValue: saved.numericValue, categoricalValue: saved.categoricalValue, standardError: saved.standardError, source: saved.source, method: saved.method };
 }

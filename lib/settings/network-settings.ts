@@ -1,5 +1,5 @@
 import { z } from "zod";
-import type { Db } from "../db/client";
+import type { Db, DbTransaction } from "../db/client";
 
 /**
  * Network-wide settings, stored as NetworkSetting rows (key -> JSON value). Every setting has a
@@ -41,18 +41,21 @@ export async function readNetworkSettings(db: Pick<Db, "networkSetting">): Promi
   return parsed.data;
 }
 
-/** Validates and stores some settings; returns the full settings after the change. */
+/**
+ * Validates and stores some settings inside the caller's transaction (so a change and its audit
+ * entry are written together); returns the full settings before and after the change.
+ */
+export async function writeNetworkSettings(tx: DbTransaction, changes: Partial<NetworkSettings>): Promise<{ before: NetworkSettings; after: NetworkSettings }> {
+  const before = await readNetworkSettings(tx);
+  const after = networkSettingsSchema.parse({ ...before, ...changes });
+  for (const key of Object.keys(changes) as NetworkSettingKey[]) {
+    const value = JSON.stringify(after[key]);
+    await tx.networkSetting.upsert({ where: { key }, create: { key, value }, update: { value } });
+  }
+  return { before, after };
+}
+
+/** Validates and stores some settings (no actor: for the seed and maintenance); returns the full settings after the change. */
 export async function updateNetworkSettings(db: Db, changes: Partial<NetworkSettings>): Promise<NetworkSettings> {
-  const current = await readNetworkSettings(db);
-  const next = networkSettingsSchema.parse({ ...current, ...changes });
-  await db.$transaction(
-    Object.keys(changes).map((key) =>
-      db.networkSetting.upsert({
-        where: { key },
-        create: { key, value: JSON.stringify(next[key as NetworkSettingKey]) },
-        update: { value: JSON.stringify(next[key as NetworkSettingKey]) },
-      }),
-    ),
-  );
-  return next;
+  return (await db.$transaction((tx) => writeNetworkSettings(tx, changes))).after;
 }

@@ -13,6 +13,8 @@ export const WARNING_CODES = [
   "data_dropped",
   "implausible_fit",
   "interval_unavailable",
+  "refit_unavailable",
+  "few_clusters",
 ] as const;
 export type WarningCode = (typeof WARNING_CODES)[number];
 

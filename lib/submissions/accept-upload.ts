@@ -64,7 +64,7 @@ export async function acceptUpload(
   const rows: ValidatedRowStream = {
     rowCount: scan.validRowCount,
     stream: async (insert) => {
-      const again = await scanUpload(source, target.settings, (batch) => insert(batch));
+      const again = await scanUpload(source, { ...target.settings, duplicatesAlreadyExcluded: true }, (batch) => insert(batch));
       if (again.totals.problems > 0 || again.sha256 !== sha256) {
         throw new AppError("conflict", `${source.fileName} changed while it was being written; nothing was written`);
       }

@@ -4,10 +4,13 @@ import { AppError } from "../errors/app-error";
 import { submissionKindSchema } from "../ingest/schemas/vocabulary";
 import { siteCodeSchema } from "../network/site-input";
 
+/** accepted: a site's current submission of its kind; superseded: an earlier one, kept; withdrawn: deleted, kept for the record. */
+export const submissionStatusSchema = z.enum(["accepted", "superseded", "withdrawn"]);
+
 export const submissionFilterSchema = z.object({
   site: z.array(siteCodeSchema).optional().describe("Site codes (repeat the parameter for several)."),
   kind: z.array(submissionKindSchema).optional(),
-  status: z.array(z.enum(["accepted", "superseded"])).optional(),
+  status: z.array(submissionStatusSchema).optional(),
 });
 export type SubmissionFilter = z.output<typeof submissionFilterSchema>;
 
@@ -20,7 +23,7 @@ export interface SubmissionSummary {
   rowCount: number;
   submittedBy: string | null;
   submittedAt: Date;
-  status: "accepted" | "superseded";
+  status: z.infer<typeof submissionStatusSchema>;
   supersedesId: number | null;
   supersededById: number | null;
 }

@@ -10,9 +10,11 @@ import type { SubmissionDiff } from "./submission-diff";
 import { loadUploadTarget, parseUploadRequest, uploadLimitsFromEnv, uploadRequestSchema, type UploadRequest } from "./upload-request";
 import type { UploadLimits } from "./scan-upload";
 
+type SubmissionStatusName = NonNullable<Awaited<ReturnType<Db["submission"]["findFirst"]>>>["status"];
+
 export interface SameBytesSubmission {
   submissionId: number;
-  status: "accepted" | "superseded";
+  status: SubmissionStatusName;
   submittedAt: Date;
   fileName: string;
 }

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import type { Actor } from "../auth/actor";
 import { recordAudit } from "../audit/record-audit";
-import { copyBroodRecords } from "../db/bulk-insert";
+import { copyBroodRecords } from "../db/brood-record-sql";
 import type { Db, DbTransaction } from "../db/client";
 import { AppError } from "../errors/app-error";
 import type { SubmissionKindName } from "../ingest/schemas/vocabulary";

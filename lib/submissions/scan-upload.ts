@@ -31,6 +31,11 @@ export interface UploadScanSettings {
   /** The site's remembered mapping for this kind. */
   remembered: ColumnMapping | null;
   limits: UploadLimits;
+  /**
+   * Skip looking for repeated keys: the file was read before and had none, and a change of the
+   * bytes since is caught by its SHA-256 (it saves a key per row on the second reading).
+   */
+  duplicatesAlreadyExcluded?: boolean;
 }
 
 export interface UploadScan {
@@ -71,7 +76,10 @@ export async function scanUpload<K extends SubmissionKindName>(source: UploadSou
   const collector = new ProblemCollector(settings.limits.maxListedProblems);
   const meter: ByteMeter = { bytes: 0, sha256: null };
   const rules = KIND_RULES[settings.kind];
-  const duplicates = new DuplicateKeyTracker<unknown>(rules.keyOf as (row: unknown) => string);
+  const duplicates = new DuplicateKeyTracker<unknown>(
+    rules.keyOf as (row: unknown) => string,
+    rules.keyParts as ((row: unknown) => readonly [string | number, string]) | undefined,
+  );
   const context: RowReadContext = {
     file,
     decimalComma: settings.decimalComma,
@@ -182,7 +190,7 @@ export async function scanUpload<K extends SubmissionKindName>(source: UploadSou
         rowProblems.length = 0;
         continue;
       }
-      const first = duplicates.seen(row, record.row);
+      const first = settings.duplicatesAlreadyExcluded ? null : duplicates.seen(row, record.row);
       if (first !== null) {
         const keyColumn = columns.get(rules.duplicateField);
         const value = keyColumn ? record.cells[keyColumn.index] : undefined;

@@ -1,4 +1,5 @@
 import type { Db } from "../db/client";
+import { readBroodRecordSnapshots } from "../db/brood-record-sql";
 import type { SubmissionKindName } from "../ingest/schemas/vocabulary";
 import { KIND_RULES, rowFromSnapshot, rowSnapshot, type KindRules, type RowsOfKind } from "../ingest/submission-kind-rules";
 
@@ -32,34 +33,29 @@ export interface SubmissionDiff {
 
 /** Examples kept per sort of change. */
 export const DIFF_EXAMPLES = 5;
-/** Stored rows read per query. */
-const PAGE_ROWS = 20_000;
 
+/** Natural key -> snapshot of the compared values, of every row of a stored submission. */
 type StoredIndex = Map<string, string>;
 
 /**
  * Reads every row of a stored submission, page by page, as snapshots keyed by natural key.
- * Memory: one short string per row.
+ * Memory: two short strings per row.
  */
 export async function loadStoredSnapshots<K extends SubmissionKindName>(db: Db, kind: K, submissionId: number | null): Promise<StoredIndex> {
   const index: StoredIndex = new Map();
   if (submissionId === null) return index;
-  const rules = KIND_RULES[kind] as KindRules<RowsOfKind[K]>;
-  const select = Object.fromEntries(["id", ...rules.keyFields, ...rules.comparedFields].map((f) => [f, true]));
-  let after = 0;
-  for (;;) {
-    const query = { where: { submissionId, id: { gt: after } }, select, orderBy: { id: "asc" as const }, take: PAGE_ROWS };
-    const page = (
-      kind === "brood_records"
-        ? await db.broodRecord.findMany(query)
-        : kind === "site_year_covariates"
-          ? await db.siteYear.findMany(query)
-          : await db.estimate.findMany(query)
-    ) as unknown as (RowsOfKind[K] & { id: number })[];
-    for (const row of page) index.set(rules.keyOf(row), rowSnapshot(rules, row));
-    if (page.length < PAGE_ROWS) break;
-    after = page[page.length - 1]!.id;
+  if (kind === "brood_records") {
+    await readBroodRecordSnapshots(db, submissionId, (page) => {
+      for (const row of page) index.set(row.key, row.snapshot);
+    });
+    return index;
   }
+  const rules = KIND_RULES[kind] as KindRules<RowsOfKind[K]>;
+  const select = Object.fromEntries([...rules.keyFields, ...rules.comparedFields].map((f) => [f, true]));
+  const query = { where: { submissionId }, select, orderBy: { id: "asc" as const } };
+  // Site-years and estimates are small (one row per year or per estimate).
+  const rows = (kind === "site_year_covariates" ? await db.siteYear.findMany(query) : await db.estimate.findMany(query)) as unknown as RowsOfKind[K][];
+  for (const row of rows) index.set(rules.keyOf(row), rowSnapshot(rules, row));
   return index;
 }
 
@@ -93,7 +89,7 @@ export class SubmissionDiffBuilder<T> {
     }
     this.changed += 1;
     if (this.examples.changed.length < DIFF_EXAMPLES) {
-      const old = rowFromSnapshot(this.rules, before) as Record<string, unknown>;
+      const old = rowFromSnapshot(this.rules, key, before) as Record<string, unknown>;
       const now = row as Record<string, unknown>;
       const changes = this.rules.comparedFields
         .filter((f) => (old[f] ?? null) !== (now[f] ?? null))
@@ -103,9 +99,9 @@ export class SubmissionDiffBuilder<T> {
   }
 
   finish(): SubmissionDiff {
-    for (const snapshot of this.stored.values()) {
+    for (const [key, snapshot] of this.stored) {
       if (this.examples.removed.length >= DIFF_EXAMPLES) break;
-      this.examples.removed.push({ key: this.rules.describeKey(rowFromSnapshot(this.rules, snapshot)) });
+      this.examples.removed.push({ key: this.rules.describeKey(rowFromSnapshot(this.rules, key, snapshot)) });
     }
     return {
       againstSubmissionId: this.againstSubmissionId,
@@ -127,6 +123,6 @@ export function isEmptyDiff(diff: SubmissionDiff): boolean {
 export async function diffStoredSubmissions(db: Db, kind: SubmissionKindName, fromId: number | null, toId: number): Promise<SubmissionDiff> {
   const rules = KIND_RULES[kind] as KindRules<unknown>;
   const builder = new SubmissionDiffBuilder(rules, await loadStoredSnapshots(db, kind, fromId), fromId);
-  for (const snapshot of (await loadStoredSnapshots(db, kind, toId)).values()) builder.add(rowFromSnapshot(rules, snapshot));
+  for (const [key, snapshot] of await loadStoredSnapshots(db, kind, toId)) builder.add(rowFromSnapshot(rules, key, snapshot));
   return builder.finish();
 }

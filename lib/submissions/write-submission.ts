@@ -1,6 +1,6 @@
 import { AppError, type FieldError } from "../errors/app-error";
 import type { Db, DbTransaction } from "../db/client";
-import { insertBroodRecords, providerOfClient } from "../db/bulk-insert";
+import { insertBroodRecords, providerOfClient } from "../db/brood-record-sql";
 import type { DatabaseProvider } from "../db/provider";
 import { KIND_RULES, type RowsOfKind } from "../ingest/submission-kind-rules";
 import { findDuplicateKeys, validateRows } from "../ingest/validate-rows";

@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { createAnalysis } from "@/lib/analyses/analyses";
 import { getAnalysisRun, runAnalysis } from "@/lib/analyses/run-analysis";
 import { analysisSpecificationSchema } from "@/lib/analyses/specification";
-import { requestActor } from "@/lib/auth/request-actor";
+import type { Actor } from "@/lib/auth/actor";
 import { AppError } from "@/lib/errors/app-error";
 import { createModerator, setModeratorValue } from "@/lib/network/moderators";
 import { moderatorInputSchema, moderatorValueInputSchema } from "@/lib/network/moderator-input";
@@ -39,17 +39,17 @@ describe.each(providers)("running an analysis on %s", (provider) => {
   let sha = 0;
   const submit = (siteCode: string, rows: unknown[]) =>
     writeSubmission(database.db, { siteCode, kind: "estimates", fileName: "e.csv", sha256: (++sha).toString(16).padStart(64, "0"), rows });
-  const actorPromise = requestActor(new Request("http://localhost/"));
+  const actorPromise = Promise.resolve<Actor>({ kind: "user", userId: null, role: "coordinator", label: "test coordinator", siteIds: [], via: "none" });
 
   beforeAll(async () => {
     database = await createTestDatabase(provider);
     for (const [index, code] of CODES.entries()) {
-      await createSite(database.db, siteInputSchema.parse({ code, name: code, species: { scientificName: "Parus major", commonName: "Great tit" }, latitude: 50 + index, longitude: 5, firstYear: 2000, lastYear: 2010 }));
+      await createSite(database.db, siteInputSchema.parse({ code, name: code, species: { scientificName: "Parus major", commonName: "Great tit" }, latitude: 50 + index, longitude: 5, firstYear: 2000, lastYear: 2010 }), await actorPromise);
       await submit(code, [estimateRow(reference.estimates[index]!, reference.standardErrors[index]!), estimateRow(0.3, 0.1, "fledging_failure")]);
     }
-    await createModerator(database.db, moderatorInputSchema.parse({ key: "warming", label: "Warming", kind: "numeric", description: "C per decade" }));
+    await createModerator(database.db, moderatorInputSchema.parse({ key: "warming", label: "Warming", kind: "numeric", description: "C per decade" }), await actorPromise);
     for (const [index, code] of CODES.entries()) {
-      await setModeratorValue(database.db, code, "warming", moderatorValueInputSchema.parse({ numericValue: reference.warming[index] }));
+      await setModeratorValue(database.db, code, "warming", moderatorValueInputSchema.parse({ numericValue: reference.warming[index] }), await actorPromise);
     }
   });
   afterAll(async () => {
@@ -81,9 +81,9 @@ describe.each(providers)("running an analysis on %s", (provider) => {
   });
 
   it("uses latitude from the site record, and leaves out (and lists) a site without a moderator value", async () => {
-    await createModerator(database.db, moderatorInputSchema.parse({ key: "canopy", label: "Canopy", kind: "categorical", description: "Dominant tree" }));
+    await createModerator(database.db, moderatorInputSchema.parse({ key: "canopy", label: "Canopy", kind: "categorical", description: "Dominant tree" }), await actorPromise);
     for (const [code, canopy] of [["S1", "oak"], ["S2", "pine"], ["S3", "oak"]] as const) {
-      await setModeratorValue(database.db, code, "canopy", moderatorValueInputSchema.parse({ categoricalValue: canopy }));
+      await setModeratorValue(database.db, code, "canopy", moderatorValueInputSchema.parse({ categoricalValue: canopy }), await actorPromise);
     }
     type Selection = { studies: { siteCode: string; moderators: Record<string, unknown> }[]; excluded: { siteCode: string; reason: string }[] };
     const byLatitude = await runAnalysis(database.db, await save({ name: "by latitude", moderators: ["latitude"], model: { type: "common_effect" } }), await actorPromise);
@@ -103,9 +103,9 @@ describe.each(providers)("running an analysis on %s", (provider) => {
     // A new submission with the same recruitment estimate is new data: the estimate has a new id.
     expect((await getAnalysisRun(database.db, id, run.id)).dataChanged).toBe(true);
     const rerun = await runAnalysis(database.db, id, await actorPromise);
-    await setModeratorValue(database.db, "S3", "canopy", moderatorValueInputSchema.parse({ categoricalValue: "pine" }));
+    await setModeratorValue(database.db, "S3", "canopy", moderatorValueInputSchema.parse({ categoricalValue: "pine" }), await actorPromise);
     expect((await getAnalysisRun(database.db, id, rerun.id)).dataChanged).toBe(false);
-    await setModeratorValue(database.db, "S3", "warming", moderatorValueInputSchema.parse({ numericValue: 0.06 }));
+    await setModeratorValue(database.db, "S3", "warming", moderatorValueInputSchema.parse({ numericValue: 0.06 }), await actorPromise);
     expect((await getAnalysisRun(database.db, id, rerun.id)).dataChanged).toBe(true);
   });
 

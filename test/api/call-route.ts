@@ -4,6 +4,8 @@ import { expect } from "vitest";
 import type { RouteDefinition } from "@/lib/api/route-definition";
 import type { RouteHandler } from "@/lib/api/handle-route";
 import { errorBodySchema } from "@/lib/api/schemas";
+import type { Db } from "@/lib/db/client";
+import { SESSION_COOKIE, startSession } from "@/lib/auth/sessions";
 
 /**
  * Calls a route handler the way Next.js does (a Request and a params promise), by importing the
@@ -12,7 +14,43 @@ import { errorBodySchema } from "@/lib/api/schemas";
  * error has the AppError body shape. Every call is counted, so a suite can tell which routes it
  * exercised.
  */
+/** Who a call comes from: a session cookie, an API token, or neither (anonymous); extra headers such as Origin. */
+export interface Caller {
+  sessionSecret?: string;
+  apiToken?: string;
+  headers?: Record<string, string>;
+}
+
+let defaultCaller: Caller = {};
+
+/** Makes every later call (without its own `as`) come from `caller`. */
+export function callAs(caller: Caller): void {
+  defaultCaller = caller;
+}
+
+/**
+ * Creates an active coordinator account with a live session in `db` and makes it the caller of
+ * every later call: the contract tests exercise the routes as the network's coordinator.
+ */
+export async function signInTestCoordinator(db: Db, email = "contract-coordinator@example.org"): Promise<{ userId: number; sessionSecret: string }> {
+  const user = await db.user.create({ data: { email, displayName: "Contract Coordinator", role: "coordinator" } });
+  const session = await startSession(db, user.id);
+  callAs({ sessionSecret: session.secret });
+  return { userId: user.id, sessionSecret: session.secret };
+}
+
+/** The request headers that carry a caller's credentials. */
+export function callerHeaders(caller: Caller): Record<string, string> {
+  return {
+    ...(caller.sessionSecret ? { cookie: `${SESSION_COOKIE}=${caller.sessionSecret}` } : {}),
+    ...(caller.apiToken ? { authorization: `Bearer ${caller.apiToken}` } : {}),
+    ...caller.headers,
+  };
+}
+
 export interface CallOptions {
+  /** Who calls (default: the caller set by callAs). */
+  as?: Caller;
   params?: Record<string, string>;
   /** Query parameters; an array repeats the parameter. */
   query?: Record<string, string | string[]>;
@@ -48,10 +86,11 @@ export async function callRoute(route: RouteDefinition, options: CallOptions = {
   for (const [name, value] of Object.entries(options.params ?? {})) path = path.replace(`{${name}}`, encodeURIComponent(value));
   const url = new URL(`http://localhost${path}`);
   for (const [name, value] of Object.entries(options.query ?? {})) for (const v of [value].flat()) url.searchParams.append(name, v);
-  const init: RequestInit = { method: route.method };
+  const headers: Record<string, string> = callerHeaders(options.as ?? defaultCaller);
+  const init: RequestInit = { method: route.method, headers };
   if (options.json !== undefined) init.body = JSON.stringify(options.json);
   if (options.raw) init.body = options.raw.body;
-  if (init.body !== undefined) init.headers = { "content-type": options.raw?.contentType ?? "application/json" };
+  if (init.body !== undefined) headers["content-type"] = options.raw?.contentType ?? "application/json";
   if (options.form) init.body = options.form;
   const response = await handler(new Request(url, init), { params: Promise.resolve(options.params ?? {}) });
   calls.push({ route, status: response.status });

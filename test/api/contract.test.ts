@@ -4,7 +4,7 @@ import { unzipSync, strFromU8 } from "fflate";
 import { apiRoutes, API_ROUTES } from "@/lib/api/routes";
 import { getDb } from "@/lib/db/client";
 import { createTestDatabase, testProviders, type TestDatabase } from "@/test/helpers/test-databases";
-import { callRoute, calls } from "./call-route";
+import { callRoute, calls, signInTestCoordinator } from "./call-route";
 
 /**
  * Contract of every /api/v1 route, called as Next.js calls the handlers, against a throwaway
@@ -47,6 +47,8 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     database = await createTestDatabase(provider);
     process.env.DATABASE_URL = database.url;
     calls.length = 0;
+    // Every route but the OpenAPI document needs a signed-in caller: these calls come from the coordinator.
+    await signInTestCoordinator(database.db);
   });
   afterAll(async () => {
     await getDb().$disconnect();
@@ -297,6 +299,54 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     const descriptor = JSON.parse(strFromU8(entries["datapackage.json"]!));
     expect(descriptor.resources.map((r: { name: string }) => r.name)).toContain("brood-records");
     expect(strFromU8(entries["data/sites.csv"]!).split("\r\n")[0]).toMatch(/^code,name,species,latitude/);
+  });
+
+  it("changes a site's metadata, refusing an empty edit, years out of order (422) and an unknown site (404)", async () => {
+    const edited = await callRoute(apiRoutes.updateSite, { params: { code: "ASH" }, json: { habitat: "ash-hazel coppice", elevationM: 85 } });
+    expect(edited.status).toBe(200);
+    expect(edited.body).toMatchObject({ code: "ASH", habitat: "ash-hazel coppice", elevationM: 85, firstYear: 2000 });
+    expect((await callRoute(apiRoutes.getSite, { params: { code: "ASH" } })).body).toMatchObject({ site: { habitat: "ash-hazel coppice" }, estimatesWithheld: null });
+    const cleared = await callRoute(apiRoutes.updateSite, { params: { code: "ASH" }, json: { habitat: "" } });
+    expect(cleared.body.habitat).toBeNull();
+    const empty = await callRoute(apiRoutes.updateSite, { params: { code: "ASH" }, json: {} });
+    expect(empty.status).toBe(422);
+    const years = await callRoute(apiRoutes.updateSite, { params: { code: "ASH" }, json: { lastYear: 1990 } });
+    expect(years.status).toBe(422);
+    expect(years.body.error.fieldErrors[0].field).toBe("lastYear");
+    expect((await callRoute(apiRoutes.updateSite, { params: { code: "ELM" }, json: { habitat: "x" } })).status).toBe(404);
+  });
+
+  it("withdraws a submission, making the previous version current again; a second withdrawal is 409", async () => {
+    const replaced = await callRoute(apiRoutes.listSubmissions, { query: { site: "PIN", kind: "estimates", status: "accepted" } });
+    const previousId = replaced.body.items[0].id;
+    const newer = await callRoute(apiRoutes.createSubmission, { json: { siteCode: "PIN", kind: "estimates", fileName: "pin-v2.json", rows: [siteEstimate(-0.3, 0.05)] } });
+    expect(newer.body.supersededId).toBe(previousId);
+    const withdrawn = await callRoute(apiRoutes.withdrawSubmission, { params: { id: String(newer.body.submission.id) } });
+    expect(withdrawn.status).toBe(200);
+    expect(withdrawn.body).toMatchObject({ submission: { id: newer.body.submission.id, status: "withdrawn" }, reinstatedId: previousId, recomputeJobId: null });
+    const current = await callRoute(apiRoutes.listEstimates, { query: { site: "PIN" } });
+    expect(current.body.items.map((e: { value: number }) => e.value)).toEqual([-0.21]);
+    expect((await callRoute(apiRoutes.getSubmission, { params: { id: String(previousId) } })).body).toMatchObject({ status: "accepted", supersededById: null });
+    expect((await callRoute(apiRoutes.withdrawSubmission, { params: { id: String(newer.body.submission.id) } })).status).toBe(409);
+    expect((await callRoute(apiRoutes.withdrawSubmission, { params: { id: "999999" } })).status).toBe(404);
+    expect((await callRoute(apiRoutes.withdrawSubmission, { params: { id: "abc" } })).status).toBe(422);
+    const listed = await callRoute(apiRoutes.listSubmissions, { query: { status: "withdrawn" } });
+    expect(listed.body.items.map((s: { fileName: string }) => s.fileName)).toEqual(["pin-v2.json"]);
+    // The next upload supersedes the reinstated version.
+    const next = await callRoute(apiRoutes.createSubmission, { json: { siteCode: "PIN", kind: "estimates", fileName: "pin-v3.json", rows: [siteEstimate(-0.2, 0.05)] } });
+    expect(next.body).toMatchObject({ supersededId: previousId, unchanged: false });
+  });
+
+  it("exports the audit trail as CSV and JSON: who did what, with the SHA-256 of each submission", async () => {
+    const csv = await callRoute(apiRoutes.exportAudit, { query: { entityType: "Site" } });
+    expect(csv.contentType).toMatch(/^text\/csv/);
+    const rows = Papa.parse<Record<string, string>>(csv.text.trim(), { header: true }).data;
+    expect(rows.filter((r) => r.action === "site.create").map((r) => r.entityId).sort()).toEqual(["ASH", "BIR", "OAK", "PIN"]);
+    expect(rows.every((r) => r.actor === "Contract Coordinator <contract-coordinator@example.org>")).toBe(true);
+    const json = await callRoute(apiRoutes.exportAudit, { query: { format: "json", action: "submission.withdraw" } });
+    expect(json.body).toHaveLength(1);
+    expect(json.body[0]).toMatchObject({ entityType: "submission", sha256: expect.stringMatching(/^[0-9a-f]{64}$/), after: { status: "withdrawn", siteCode: "PIN" } });
+    expect((await callRoute(apiRoutes.exportAudit, { query: { since: "not a date" } })).status).toBe(422);
   });
 
   it("called every route with success, and every route that takes input with bad input", () => {

@@ -31,7 +31,7 @@ describe.each(providers)("managing accounts on %s", (provider) => {
     await expect(updateUser(db, coordinator, userId, { leadsSites: ["ZZZ"] })).rejects.toThrow(/unknown site codes: ZZZ/);
     const entries = await listAuditEntries(db, coordinator, { entityType: "User", limit: 10 });
     const update = entries.find((e) => e.action === "user.update")!;
-    expect(JSON.parse(update.summary)).toEqual({ before: { role: "site_lead", active: true, leadsSites: [] }, after: { role: "site_lead", active: true, leadsSites: ["AAA"] } });
+    expect({ before: update.before, after: update.after }).toEqual({ before: { role: "site_lead", active: true, leadsSites: [] }, after: { role: "site_lead", active: true, leadsSites: ["AAA"] } });
     expect(entries.some((e) => e.action === "user.create" && e.actorUserId === coordinator.userId)).toBe(true);
   });
 

@@ -28,6 +28,7 @@ const MATRIX: Array<[Action, Expect, Expect, Expect, Expect]> = [
   ["user.manage", "allow", "deny", "deny", "deny"],
   ["settings.manage", "allow", "deny", "deny", "deny"],
   ["audit.read", "allow", "deny", "deny", "deny"],
+  ["network.export", "allow", "deny", "deny", "deny"],
   ["token.manage_own", "allow", "allow", "allow", "allow"],
 ];
 

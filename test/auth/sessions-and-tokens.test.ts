@@ -3,7 +3,7 @@ import { createTestDatabase, testProviders, type TestDatabase } from "@/test/hel
 import { hashPassword } from "@/lib/auth/password";
 import { endAllSessions, resolveSession, startSession, SESSION_IDLE_TIMEOUT_MS, SESSION_MAX_AGE_MS } from "@/lib/auth/sessions";
 import { signIn } from "@/lib/auth/sign-in";
-import { MAX_FAILURES_PER_ACCOUNT, SIGN_IN_WINDOW_MS } from "@/lib/auth/sign-in-rate-limit";
+import { MAX_FAILURES_PER_ACCOUNT, MAX_FAILURES_PER_ADDRESS, SIGN_IN_WINDOW_MS } from "@/lib/auth/sign-in-rate-limit";
 import { createApiToken, resolveApiToken, revokeApiToken } from "@/lib/auth/api-tokens";
 import { actorForUser } from "@/lib/auth/actor";
 import { createFirstCoordinator, needsFirstCoordinator } from "@/lib/auth/create-first-coordinator";
@@ -79,6 +79,19 @@ describe.each(providers)("sessions, sign-in and API tokens on %s", (provider) =>
     // ...and accepted once the failures leave the window.
     const afterWindow = new Date(later.getTime() + SIGN_IN_WINDOW_MS + 1000);
     await expect(signIn(db, { email: "lead@example.org", password: "lead-password" }, { address: "10.0.2.1", now: afterWindow })).resolves.toMatchObject({ userId: leadId });
+  });
+
+  it("limits failures per address too, across accounts, without locking out other addresses", async () => {
+    const { db } = database;
+    const later = at(40 * SIGN_IN_WINDOW_MS);
+    // One address trying many accounts: each account stays under its own limit.
+    for (let i = 0; i < MAX_FAILURES_PER_ADDRESS; i += 1) {
+      await expect(signIn(db, { email: `guess${i}@example.org`, password: "x" }, { address: "192.0.2.7", now: later })).rejects.toThrow("email or password is not right");
+    }
+    await expect(signIn(db, { email: "lead@example.org", password: "lead-password" }, { address: "192.0.2.7", now: later })).rejects.toThrow(/too many failed sign-ins/);
+    await expect(signIn(db, { email: "lead@example.org", password: "lead-password" }, { address: "192.0.2.8", now: later })).resolves.toMatchObject({ userId: leadId });
+    // A refused attempt is not checked against the password at all, and is not counted as a success.
+    expect(await db.signInAttempt.count({ where: { address: "192.0.2.7", succeeded: true } })).toBe(0);
   });
 
   it("creates API tokens shown once, scoped to their user, and revocable", async () => {

@@ -4,8 +4,11 @@
  */
 import { runDemoNetworkBenchmark } from "./demo-network.bench";
 import { runEstimatesBenchmark } from "./estimates.bench";
+import { runMultilevelBenchmark } from "./multilevel.bench";
 import { runPoolBenchmark } from "./pool.bench";
+import { runSensitivityBenchmark } from "./sensitivity.bench";
+import { runUploadBenchmark } from "./upload.bench";
 
-const BENCHMARKS: Array<() => Promise<void>> = [runDemoNetworkBenchmark, runEstimatesBenchmark, runPoolBenchmark];
+const BENCHMARKS: Array<() => Promise<void>> = [runDemoNetworkBenchmark, runEstimatesBenchmark, runPoolBenchmark, runMultilevelBenchmark, runSensitivityBenchmark, runUploadBenchmark];
 
 for (const benchmark of BENCHMARKS) await benchmark();

@@ -56,6 +56,10 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
         supersedesId: superseded.id,
       },
     });
+    // Every status round-trips: a withdrawn submission (a soft delete) on both engines (PostgreSQL enum value of migration 0003).
+    await db.submission.create({
+      data: { siteId: site.id, kind: "estimates", fileName: "withdrawn.csv", sha256: "f".repeat(64), rowCount: 0, status: "withdrawn" },
+    });
     const siteYear = await db.siteYear.create({
       data: { siteId: site.id, year: 2001, foodPeakDoy: 140.5, foodPeakSe: 1.5, meanSpringTempC: 9.25, broodCount: 80, submissionId: submission.id },
     });
@@ -96,7 +100,7 @@ describe.each(providers)("every model round-trips on %s", (provider) => {
     expect(readSite.siteYears).toEqual([siteYear]);
     expect(readSite.broodRecords).toEqual([brood]);
     expect(readSite.estimates).toEqual([estimate]);
-    expect(readSite.submissions.map((s) => s.status).sort()).toEqual(["accepted", "superseded"]);
+    expect(readSite.submissions.map((s) => s.status).sort()).toEqual(["accepted", "superseded", "withdrawn"]);
 
     const chain = await db.submission.findUniqueOrThrow({ where: { id: superseded.id }, include: { supersededBy: true } });
     expect(chain.supersededBy?.id).toBe(submission.id);

@@ -1,5 +1,5 @@
 import { spawn, type ChildProcess } from "node:child_process";
-import { existsSync, mkdirSync, mkdtempSync, rmSync } from "node:fs";
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { createServer } from "node:net";
@@ -12,9 +12,17 @@ import { chromium, type Browser, type Page } from "playwright-core";
 export const CHROMIUM = process.env.PHENOPOOL_CHROMIUM ?? "/usr/bin/chromium";
 export const ARTIFACTS = join(process.cwd(), "test-artifacts", "e2e");
 
+export interface DemoAccount {
+  role: string;
+  email: string;
+  password: string;
+}
+
 export interface RunningApp {
   baseUrl: string;
   databaseUrl: string;
+  /** The seeded demo accounts (empty without the demo network). */
+  accounts: DemoAccount[];
   stop: () => Promise<void>;
 }
 
@@ -61,7 +69,11 @@ export async function startApp(options: { seedDemo: boolean }): Promise<RunningA
   const dir = mkdtempSync(join(tmpdir(), "phenopool-e2e-"));
   const databaseUrl = `file:${join(dir, "e2e.db")}`;
   const env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: databaseUrl, NODE_ENV: "production" as const };
-  if (options.seedDemo) await runToEnd(process.execPath, ["--import", "tsx", "seed/index.ts"], env);
+  const accountsFile = join(dir, "demo-accounts.json");
+  // The demo's own accounts and truth files under data/ are left alone: this network is the test's.
+  if (options.seedDemo) {
+    await runToEnd(process.execPath, ["--import", "tsx", "seed/index.ts", "--accounts-file", accountsFile, "--truth", join(dir, "demo-truth.json")], env);
+  }
   const port = await freePort();
   const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "--hostname", "127.0.0.1", "--port", String(port)], { env, stdio: ["ignore", "pipe", "pipe"] });
   let output = "";
@@ -74,9 +86,11 @@ export async function startApp(options: { seedDemo: boolean }): Promise<RunningA
     child.kill("SIGKILL");
     throw new Error(`${(error as Error).message}\n${output}`);
   }
+  const accounts: DemoAccount[] = options.seedDemo ? (JSON.parse(readFileSync(accountsFile, "utf8")) as { accounts: DemoAccount[] }).accounts : [];
   return {
     baseUrl,
     databaseUrl,
+    accounts,
     stop: async () => {
       if (child.exitCode === null) {
         child.kill("SIGTERM");

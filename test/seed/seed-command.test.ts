@@ -20,6 +20,7 @@ describe("npm run seed options", () => {
       force: false,
       ifEmpty: false,
       truthPath: "data/demo-truth.json",
+      accountsPath: "data/demo-accounts.json",
       showAccounts: false,
       help: false,
     });
@@ -28,6 +29,7 @@ describe("npm run seed options", () => {
   it("read --seed N, --seed=N, --force, --if-empty, --truth FILE", () => {
     expect(parseSeedArguments(["--seed", "7", "--force", "--truth", "/tmp/t.json"])).toMatchObject({ seed: 7, force: true, truthPath: "/tmp/t.json" });
     expect(parseSeedArguments(["--seed=0", "--if-empty"])).toMatchObject({ seed: 0, ifEmpty: true });
+    expect(parseSeedArguments(["--accounts-file", "/tmp/a.json"])).toMatchObject({ accountsPath: "/tmp/a.json" });
   });
 
   it.each([

@@ -18,6 +18,7 @@ export default async function SitePage({ params }: { params: Promise<{ code: str
   const detail = await getSiteDetail(getDb(), decodeURIComponent(code));
   if (!detail) notFound();
   const showEstimates = await mayDo(actor, "pooled_results.read", { siteId: detail.site.id });
+  const canUpload = await mayDo(actor, "submission.create", { siteId: detail.site.id });
   const { site, siteYears, estimates, broodsByYear } = detail;
   const totalBroods = broodsByYear.reduce((sum, y) => sum + y.broods, 0);
   return (
@@ -61,6 +62,7 @@ export default async function SitePage({ params }: { params: Promise<{ code: str
       )}
 
       <h2>Submissions</h2>
+      {canUpload ? <p><Link href={`/sites/${encodeURIComponent(site.code)}/upload`} className="button-link">Upload a file</Link></p> : null}
       {site.submissions.length === 0 ? (
         <p className="empty">Nothing submitted yet.</p>
       ) : (

@@ -1,14 +1,12 @@
 import type { CliCommand, CliIo } from "../command";
-import { AppError, type FieldError } from "../../errors/app-error";
-import { isNumericColumn, numericColumn, readCsvTable, requireValues, textColumn, type CsvTable } from "../../ingest/read-csv-table";
-import { ModelInputError } from "../../stats/model-error";
+import { keyValueOption, parsePoolingArgs, poolingInputError, readPoolingInput, requiredTextColumn, usageError as poolingUsageError, type PoolingArgs } from "../pooling-options";
+import { columnIndex, readCsvTable, type CsvTable } from "../../ingest/read-csv-table";
 import { fitMetaModel } from "../../stats/meta/fit-meta-model";
-import { metaData, StudyInputError } from "../../stats/meta/meta-data";
-import { INFERENCE_TESTS, type InferenceTest } from "../../stats/meta/meta-inference";
+import { fitMultilevelModel, MULTILEVEL_METHODS, type MultilevelMethod } from "../../stats/meta/multilevel/fit-multilevel-model";
+import { addClusterRobustInference } from "../../stats/meta/robust/cluster-robust-inference";
 import type { MetaModelResult } from "../../stats/meta/meta-result";
-import { encodeModeratorRow, moderatorDesign, type ModeratorSpec } from "../../stats/meta/moderator-design";
+import { encodeModeratorRow } from "../../stats/meta/moderator-design";
 import { metaResultToJson } from "../../stats/meta/result-json";
-import { TAU2_METHODS, type Tau2Method } from "../../stats/meta/tau2-estimator";
 
 const USAGE = `pool FILE.csv --estimate COL (--se COL | --variance COL) [options]
 
@@ -25,7 +23,7 @@ Model
   --method M            fe (common effect), dl (DerSimonian-Laird), reml (default), ml, pm
                         (Paule-Mandel), he (Hedges), sj (Sidik-Jonkman)
   --test T              z (Wald, default) or hksj (Knapp-Hartung: t and F on k - p df)
-  --level L             confidence level of every interval (default 0.95)
+  --confidence L        confidence level of every interval (default 0.95)
 
 Moderators (meta-regression)
   --moderator COL       add a moderator; repeat for several. A column whose every value is a
@@ -42,6 +40,21 @@ Moderators (meta-regression)
                         ordering when k! <= N)
   --seed S              seed of the permutations (default 1)
 
+Multilevel models and cluster-robust inference
+  --level COL           a grouping level for nested random intercepts; repeat for several,
+                        outermost first (e.g. --level species --level site --level site_year).
+                        Groups are paths: site 'S1' of two species is two sites. Fitted by reml
+                        (default) or ml, with a profile-likelihood interval, I^2 and a
+                        likelihood-ratio test (50:50 mixture of chi2_0 and chi2_1) per level
+  --cluster COL         cluster-robust (CR2) standard errors clustered by COL, with t tests on
+                        Satterthwaite df, beside the model-based ones; with --level, each group
+                        of the outermost level must lie within one cluster
+
+  Within- versus between-year effects (are between-year effects weaker?):
+    --moderator estimate_level --reference estimate_level=within
+    --level site --level estimate_id --cluster site
+  (estimate_id: a column with a distinct value per row)
+
 Output
   --format F            table (default) or json
 
@@ -49,86 +62,21 @@ Prediction interval: t with k - p - 1 df (k - 2 for the pooled mean, as in Higgi
 Spiegelhalter 2009). I^2 is in percent, r2 (pseudo-R^2) a proportion. Rows are never dropped: an
 empty or non-numeric cell in a used column is an error naming the row.`;
 
-interface PoolArgs {
-  file: string;
-  estimate: string;
-  se: string | undefined;
-  variance: string | undefined;
-  method: Tau2Method;
-  test: InferenceTest;
-  level: number;
-  moderators: string[];
-  categorical: Set<string>;
-  references: Map<string, string>;
-  centre: Set<string>;
+interface PoolArgs extends PoolingArgs {
   predictAt: Map<string, string>;
   permutations: number | undefined;
   seed: number;
-  format: "table" | "json";
+  /** Grouping columns of a multilevel model, outermost first. */
+  levels: string[];
+  cluster: string | undefined;
 }
 
-const VALUE_OPTIONS = new Set([
-  "estimate",
-  "se",
-  "variance",
-  "method",
-  "test",
-  "level",
-  "moderator",
-  "categorical",
-  "reference",
-  "centre",
-  "predict-at",
-  "permutations",
-  "seed",
-  "format",
-]);
-
-function usageError(message: string, field = "arguments"): AppError {
-  return new AppError("invalid_input", `${message} (see 'help pool')`, [{ field, message }]);
-}
-
-function keyValue(option: string, text: string): [string, string] {
-  const at = text.indexOf("=");
-  if (at <= 0) throw usageError(`--${option} needs COL=VALUE, got '${text}'`, option);
-  return [text.slice(0, at), text.slice(at + 1)];
+function usageError(message: string, field = "arguments") {
+  return poolingUsageError("pool", message, field);
 }
 
 function parseArgs(args: string[]): PoolArgs {
-  const values = new Map<string, string[]>();
-  const positional: string[] = [];
-  for (let i = 0; i < args.length; i += 1) {
-    const arg = args[i]!;
-    if (!arg.startsWith("--")) {
-      positional.push(arg);
-      continue;
-    }
-    const [name, inline] = arg.slice(2).split(/=(.*)/s, 2) as [string, string | undefined];
-    if (!VALUE_OPTIONS.has(name)) throw usageError(`unknown option --${name}`, name);
-    const value = inline ?? args[(i += 1)];
-    if (value === undefined || (inline === undefined && value.startsWith("--"))) throw usageError(`--${name} needs a value`, name);
-    values.set(name, [...(values.get(name) ?? []), value]);
-  }
-  const single = (name: string): string | undefined => {
-    const given = values.get(name);
-    if (given && given.length > 1) throw usageError(`--${name} is given more than once`, name);
-    return given?.[0];
-  };
-  if (positional.length !== 1) throw usageError(positional.length === 0 ? "give the CSV file to pool" : `one file at a time, got ${positional.join(", ")}`, "file");
-  const estimate = single("estimate");
-  if (!estimate) throw usageError("--estimate COL is required", "estimate");
-  const se = single("se");
-  const variance = single("variance");
-  if ((se === undefined) === (variance === undefined)) throw usageError("give exactly one of --se COL and --variance COL", "se");
-  const method = (single("method") ?? "reml") as Tau2Method;
-  if (!TAU2_METHODS.includes(method)) throw usageError(`--method must be one of ${TAU2_METHODS.join(", ")}, got '${method}'`, "method");
-  const test = (single("test") ?? "z") as InferenceTest;
-  if (!INFERENCE_TESTS.includes(test)) throw usageError(`--test must be one of ${INFERENCE_TESTS.join(", ")}, got '${test}'`, "test");
-  const format = single("format") ?? "table";
-  if (format !== "table" && format !== "json") throw usageError(`--format must be table or json, got '${format}'`, "format");
-  const levelText = single("level");
-  const level = levelText === undefined ? 0.95 : Number(levelText);
-  if (!(level > 0 && level < 1)) throw usageError(`--level must be a number between 0 and 1, got '${levelText}'`, "level");
+  const { pooling, values, single } = parsePoolingArgs("pool", args, { values: ["predict-at", "permutations", "seed", "level", "cluster"], confidenceOption: "confidence" });
   const permutationsText = single("permutations");
   const permutations = permutationsText === undefined ? undefined : Number(permutationsText);
   if (permutations !== undefined && !(Number.isInteger(permutations) && permutations >= 1 && permutations <= 1e6)) {
@@ -138,50 +86,30 @@ function parseArgs(args: string[]): PoolArgs {
   const seed = seedText === undefined ? 1 : Number(seedText);
   if (!Number.isSafeInteger(seed)) throw usageError(`--seed must be a whole number, got '${seedText}'`, "seed");
   if (seedText !== undefined && permutations === undefined) throw usageError("--seed only applies with --permutations", "seed");
-  const moderators = values.get("moderator") ?? [];
-  const duplicate = moderators.find((name, index) => moderators.indexOf(name) !== index);
-  if (duplicate) throw usageError(`moderator '${duplicate}' is given twice`, "moderator");
-  const references = new Map((values.get("reference") ?? []).map((text) => keyValue("reference", text)));
-  const predictAt = new Map((values.get("predict-at") ?? []).map((text) => keyValue("predict-at", text)));
-  const categorical = new Set(values.get("categorical") ?? []);
-  const centre = new Set(values.get("centre") ?? []);
-  for (const [option, names] of [["categorical", categorical], ["reference", references.keys()], ["centre", centre], ["predict-at", predictAt.keys()]] as const) {
-    for (const name of names) if (!moderators.includes(name)) throw usageError(`--${option} names '${name}', which is not a --moderator`, option);
+  const predictAt = keyValueOption("pool", "predict-at", values.get("predict-at"));
+  for (const name of predictAt.keys()) if (!pooling.moderators.includes(name)) throw usageError(`--predict-at names '${name}', which is not a --moderator`, "predict-at");
+  const levels = values.get("level") ?? [];
+  const repeated = levels.find((name, index) => levels.indexOf(name) !== index);
+  if (repeated) throw usageError(`--level '${repeated}' is given twice`, "level");
+  if (levels.length > 0) {
+    if (!MULTILEVEL_METHODS.includes(pooling.method as MultilevelMethod)) throw usageError(`a multilevel model (--level) is fitted by --method ${MULTILEVEL_METHODS.join(" or ")}, not '${pooling.method}'`, "method");
+    if (pooling.test !== "z") throw usageError("--test hksj applies to single-level models; with --level use --cluster for small-sample robust tests", "test");
+    if (permutations !== undefined) throw usageError("--permutations applies to single-level models, not with --level", "permutations");
   }
-  return { file: positional[0]!, estimate, se, variance, method, test, level, moderators, categorical, references, centre, predictAt, permutations, seed, format };
+  return { ...pooling, predictAt, permutations, seed, levels, cluster: single("cluster") };
 }
 
-function moderatorSpecs(table: CsvTable, args: PoolArgs): ModeratorSpec[] {
-  return args.moderators.map((name): ModeratorSpec => {
-    requireValues(table, name);
-    const categorical = args.categorical.has(name) || args.references.has(name) || !isNumericColumn(table, name);
-    if (categorical) {
-      if (args.centre.has(name)) throw usageError(`--centre applies to numeric moderators; '${name}' is categorical`, "centre");
-      return { kind: "categorical", name, values: textColumn(table, name), reference: args.references.get(name) };
-    }
-    return { kind: "numeric", name, values: numericColumn(table, name), centre: args.centre.has(name) };
-  });
-}
-
-/** Model input errors as application errors that point at the file, row and column. */
-function asAppError(error: unknown, table: CsvTable, args: PoolArgs): unknown {
-  if (!(error instanceof ModelInputError)) return error;
-  const fieldErrors: FieldError[] = [];
-  if (error instanceof StudyInputError) {
-    const column =
-      error.field === "estimate" ? args.estimate : error.field === "variance" || error.field === "standard_error" ? (args.se ?? args.variance)! : error.field;
-    fieldErrors.push({ field: column, file: table.file, row: error.studyIndex === undefined ? undefined : error.studyIndex + 1, message: error.message });
-    return new AppError("invalid_input", `${table.file}: ${error.message}`, fieldErrors);
+/** A grouping or cluster column; a --level that reads as a confidence level gets a pointer to --confidence. */
+function groupingColumn(table: CsvTable, name: string, option: "level" | "cluster"): string[] {
+  if (option === "level" && !table.headers.includes(name) && Number(name) > 0 && Number(name) < 1) {
+    throw usageError(`--level names a grouping column of a multilevel model; give the confidence level as --confidence ${name}`, "level");
   }
-  return new AppError("cannot_compute", `${table.file}: ${error.message}`);
+  columnIndex(table, name);
+  return requiredTextColumn(table, name)!;
 }
 
 function fitFromTable(table: CsvTable, args: PoolArgs): MetaModelResult {
-  const estimates = numericColumn(table, args.estimate);
-  const spread = numericColumn(table, (args.se ?? args.variance)!);
-  const data = metaData(args.se ? { estimates, standardErrors: spread } : { estimates, variances: spread });
-  const specs = moderatorSpecs(table, args);
-  const moderators = specs.length > 0 ? moderatorDesign(data.k, specs) : undefined;
+  const { data, specs, moderators } = readPoolingInput(table, args);
   let predictAt: Float64Array | undefined;
   if (moderators && args.predictAt.size > 0) {
     const values: Record<string, number | string> = {};
@@ -193,7 +121,18 @@ function fitFromTable(table: CsvTable, args: PoolArgs): MetaModelResult {
     predictAt = encodeModeratorRow(moderators, values);
   }
   if (!moderators && args.predictAt.size > 0) throw usageError("--predict-at needs moderators", "predict-at");
-  return fitMetaModel(data, {
+  const cluster = args.cluster === undefined ? undefined : { name: args.cluster, labels: groupingColumn(table, args.cluster, "cluster") };
+  if (args.levels.length > 0) {
+    return fitMultilevelModel(data, {
+      levels: args.levels.map((name) => ({ name, values: groupingColumn(table, name, "level") })),
+      method: args.method as MultilevelMethod,
+      confidenceLevel: args.level,
+      design: moderators?.design,
+      predictAt,
+      cluster,
+    });
+  }
+  const fit = fitMetaModel(data, {
     method: args.method,
     test: args.test,
     confidenceLevel: args.level,
@@ -201,6 +140,7 @@ function fitFromTable(table: CsvTable, args: PoolArgs): MetaModelResult {
     predictAt,
     permutations: args.permutations === undefined ? undefined : { permutations: args.permutations, seed: args.seed },
   });
+  return cluster === undefined ? fit : addClusterRobustInference(fit, data, cluster, moderators?.design);
 }
 
 function number(value: number): string {
@@ -220,6 +160,7 @@ function percent(value: number): string {
 
 function modelTitle(result: MetaModelResult): string {
   const moderated = result.moderatorTest !== null;
+  if (result.multilevel) return `Multilevel ${moderated ? "meta-regression" : "random-effects model"} (${result.multilevel.components.map((c) => c.level).join(" / ")}), variances by ${result.method.name.replace(" (multilevel)", "")}`;
   if (result.method.method === "fe") return moderated ? "Common-effect meta-regression" : "Common-effect (inverse-variance) model";
   return `${moderated ? "Mixed-effects meta-regression" : "Random-effects model"}, tau^2 by ${result.method.name}`;
 }
@@ -228,7 +169,7 @@ function renderTable(result: MetaModelResult, file: string): string {
   const level = `${Math.round(result.confidenceLevel * 1000) / 10}%`;
   const lines: string[] = [];
   lines.push(modelTitle(result));
-  lines.push(`${file}: k = ${result.k} studies, p = ${result.p} coefficient${result.p === 1 ? "" : "s"}; ${result.test.name} test${result.test.df === null ? "" : ` on ${result.test.df} df`}; ${level} intervals`);
+  lines.push(`${file}: k = ${result.k} ${result.multilevel ? "estimates" : "studies"}, p = ${result.p} coefficient${result.p === 1 ? "" : "s"}; ${result.test.name} test${result.test.df === null ? "" : ` on ${result.test.df} df`}; ${level} intervals`);
   lines.push("");
   const statisticName = result.test.test === "z" ? "z" : "t";
   const header = ["term", "estimate", "SE", statisticName, "p", `${level} CI`];
@@ -236,6 +177,52 @@ function renderTable(result: MetaModelResult, file: string): string {
   const widths = header.map((h, j) => Math.max(h.length, ...rows.map((r) => r[j]!.length)));
   for (const row of [header, ...rows]) lines.push(row.map((cell, j) => (j === 0 ? cell.padEnd(widths[j]!) : cell.padStart(widths[j]!))).join("  "));
   lines.push("");
+  if (result.robust) lines.push(...robustLines(result));
+  if (result.multilevel) lines.push(...multilevelLines(result, level));
+  else lines.push(...heterogeneityLines(result, level));
+  lines.push(...testLines(result, level));
+  return `${lines.join("\n")}\n`;
+}
+
+function multilevelLines(result: MetaModelResult, level: string): string[] {
+  const summary = result.multilevel!;
+  const h = result.heterogeneity;
+  const lines = [`Variance components (${h.scope === "total" ? "between estimates" : "residual, not explained by the moderators"}; ${level} profile-likelihood intervals)`];
+  const header = ["level", "groups", "sigma^2", "SE", `${level} CI`, "I^2", "LRT", "p (mixture)"];
+  const rows = summary.components.map((c) => [
+    c.level,
+    String(c.groups),
+    number(c.sigma2),
+    c.standardError === null ? "-" : number(c.standardError),
+    c.interval.available ? `[${number(c.interval.lower)}, ${number(c.interval.upper)}]` : "n/a",
+    percent(c.i2),
+    c.test.available ? number(c.test.statistic) : "n/a",
+    c.test.available ? pValue(c.test.pValue) : "n/a",
+  ]);
+  const widths = header.map((cell, j) => Math.max(cell.length, ...rows.map((r) => r[j]!.length)));
+  for (const row of [header, ...rows]) lines.push(`  ${row.map((cell, j) => (j === 0 ? cell.padEnd(widths[j]!) : cell.padStart(widths[j]!))).join("  ")}`);
+  lines.push(`  total sigma^2 ${number(summary.totalSigma2)}, total I^2 ${percent(summary.totalI2)} (typical within-study variance ${number(summary.typicalWithinStudyVariance)})`);
+  lines.push("  LRT: each level against the model without it; p from the 50:50 mixture of chi2_0 and chi2_1 (variance 0 is on the boundary)");
+  lines.push(`  Q      ${number(h.q)} on ${h.qDf} df, p ${h.qPValue === 0 ? "< 1e-16" : `= ${pValue(h.qPValue)}`}`);
+  const ic = summary.informationCriteria;
+  lines.push(`  AIC ${number(ic.aic)}, BIC ${number(ic.bic)} (${ic.parameters} parameters${result.fit.logLikelihoodKind === "restricted" ? "; REML: compare only models with the same moderators" : ""})`);
+  return lines;
+}
+
+function robustLines(result: MetaModelResult): string[] {
+  const robust = result.robust!;
+  const level = `${Math.round(robust.confidenceLevel * 1000) / 10}%`;
+  const lines = [`Cluster-robust (CR2) inference: ${robust.clusterCount} clusters by '${robust.cluster}' (${robust.smallestCluster}-${robust.largestCluster} estimates each), t on Satterthwaite df`];
+  const header = ["term", "estimate", "robust SE", "df", "t", "p", `${level} CI`];
+  const rows = robust.coefficients.map((c) => [c.term, number(c.estimate), number(c.standardError), number(c.df), number(c.statistic), pValue(c.pValue), `[${number(c.ciLower)}, ${number(c.ciUpper)}]`]);
+  const widths = header.map((cell, j) => Math.max(cell.length, ...rows.map((r) => r[j]!.length)));
+  for (const row of [header, ...rows]) lines.push(row.map((cell, j) => (j === 0 ? cell.padEnd(widths[j]!) : cell.padStart(widths[j]!))).join("  "));
+  lines.push("");
+  return lines;
+}
+
+function heterogeneityLines(result: MetaModelResult, level: string): string[] {
+  const lines: string[] = [];
   const h = result.heterogeneity;
   lines.push(`Heterogeneity (${h.scope === "total" ? "between studies" : "residual, not explained by the moderators"})`);
   const interval = h.interval.available ? h.interval : null;
@@ -246,6 +233,11 @@ function renderTable(result: MetaModelResult, file: string): string {
   lines.push(`  H^2    ${number(h.h2)}${interval ? ci(interval.h2Lower, interval.h2Upper, number) : ""}`);
   lines.push(`  Q      ${number(h.q)} on ${h.qDf} df, p ${h.qPValue === 0 ? "< 1e-16" : `= ${pValue(h.qPValue)}`}`);
   if (!h.interval.available) lines.push(`  (no interval: ${h.interval.reason})`);
+  return lines;
+}
+
+function testLines(result: MetaModelResult, level: string): string[] {
+  const lines: string[] = [];
   if (result.moderatorTest) {
     const t = result.moderatorTest;
     const statistic = t.distribution === "chi-square" ? `Q_M = ${number(t.statistic)} on ${t.df} df` : `F = ${number(t.statistic)} on ${t.df} and ${t.denominatorDf} df`;
@@ -282,7 +274,7 @@ function renderTable(result: MetaModelResult, file: string): string {
     lines.push("", "Warnings");
     result.warnings.forEach((w, i) => lines.push(`  ${i + 1}. ${w.message} [${w.code}]`));
   }
-  return `${lines.join("\n")}\n`;
+  return lines;
 }
 
 export const poolCommand: CliCommand = {
@@ -296,7 +288,7 @@ export const poolCommand: CliCommand = {
     try {
       result = fitFromTable(table, parsed);
     } catch (error) {
-      throw asAppError(error, table, parsed);
+      throw poolingInputError(error, table, parsed);
     }
     io.stdout(parsed.format === "json" ? `${JSON.stringify(metaResultToJson(result), null, 2)}\n` : renderTable(result, parsed.file));
     return 0;

@@ -32,7 +32,7 @@ export function readBroodRecord(reader: RecordReader): BroodRecordRow | null {
   ] as const) {
     reader.trace(schemaField, field);
   }
-  if (year === null && !reader.failures.has("year") && !reader.failures.has("layDate")) {
+  if (year === null && !reader.hasFailed("year") && !reader.hasFailed("layDate")) {
     reader.fail(reader.has("year") ? "year" : "layDate", "the row has no year: give one in the year column or write the lay date as YYYY-MM-DD");
   }
   return checkRow(broodRecordRowSchema, candidate, reader);

@@ -14,7 +14,7 @@ function readYearAndDate(reader: RecordReader, dateField: string, whole: boolean
   let year = reader.wholeNumber("year", false);
   const date = reader.day(dateField, { year: year ?? null, whole, required: false });
   if (year === null && date?.yearOfDate) year = date.yearOfDate;
-  if (year === null && !reader.failures.has(dateField)) {
+  if (year === null && !reader.hasFailed(dateField)) {
     reader.fail(reader.has("year") ? "year" : dateField, "the row has no year: give one in the year column or write the date as YYYY-MM-DD");
   }
   return { year, date };

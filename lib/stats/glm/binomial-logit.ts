@@ -45,9 +45,24 @@ export const binomialLogit: GlmFamily = {
   },
   meanOf(linearPredictor, mean) {
     for (let i = 0; i < linearPredictor.length; i += 1) {
-      const p = 1 / (1 + Math.exp(-linearPredictor[i]!));
+      const eta = linearPredictor[i]!;
+      const e = Math.exp(-Math.abs(eta));
+      const p = eta >= 0 ? 1 / (1 + e) : e / (1 + e);
       mean[i] = p < EPSILON ? EPSILON : p > 1 - EPSILON ? 1 - EPSILON : p;
     }
+  },
+  meanAndDeviance(response, linearPredictor, mean) {
+    // One exp(-|eta|) serves the mean and softplus(+-eta) = max(+-eta, 0) + log1p(exp(-|eta|)).
+    let sum = 0;
+    for (let i = 0; i < linearPredictor.length; i += 1) {
+      const eta = linearPredictor[i]!;
+      const e = Math.exp(-Math.abs(eta));
+      const p = eta >= 0 ? 1 / (1 + e) : e / (1 + e);
+      mean[i] = p < EPSILON ? EPSILON : p > 1 - EPSILON ? 1 - EPSILON : p;
+      const x = response[i]! === 1 ? -eta : eta;
+      sum += x > 0 ? x + Math.log1p(e) : Math.log1p(e);
+    }
+    return 2 * sum;
   },
   workingWeightsAndResponse(linearPredictor, mean, response, weights, working) {
     for (let i = 0; i < mean.length; i += 1) {
@@ -60,8 +75,8 @@ export const binomialLogit: GlmFamily = {
   deviance(response, _mean, linearPredictor) {
     return binaryDeviance(response, linearPredictor);
   },
-  logLikelihood(response, _mean, linearPredictor) {
-    return -0.5 * binaryDeviance(response, linearPredictor);
+  logLikelihood(response, _mean, linearPredictor, deviance) {
+    return -0.5 * (deviance ?? binaryDeviance(response, linearPredictor));
   },
   pearsonChiSquare(response, mean) {
     let sum = 0;

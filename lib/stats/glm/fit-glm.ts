@@ -11,8 +11,8 @@
  *   The R Journal 3(2): 12-15. (step-halving on a deviance increase)
  */
 import type { DesignMatrix } from "../linear/design-matrix";
-import { choleskyInverse, type CholeskyFactor } from "../linear/cholesky";
 import { designTimesVector } from "../linear/design-times-vector";
+import type { NormalEquationsSolution } from "../linear/weighted-normal-equations";
 import { normalTwoSidedP } from "../distributions/normal";
 import { studentTTwoSidedP } from "../distributions/student-t";
 import { ModelInputError } from "../model-error";
@@ -68,7 +68,7 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
   for (let i = 0; i < rows; i += 1) linearPredictor[i] = family.linkOf(mean[i]!);
   let deviance = family.deviance(response, mean, linearPredictor);
   let coefficients: Float64Array | null = null;
-  let information: CholeskyFactor | null = null;
+  let information: NormalEquationsSolution | null = null;
   let converged = false;
   let iterations = 0;
   let stepHalvings = 0;
@@ -84,8 +84,7 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
     }
     let proposal = step.coefficients;
     designTimesVector(design, proposal, linearPredictor);
-    family.meanOf(linearPredictor, mean);
-    let proposedDeviance = family.deviance(response, mean, linearPredictor);
+    let proposedDeviance = family.meanAndDeviance(response, linearPredictor, mean);
     let halvings = 0;
     const rises = (value: number) => !Number.isFinite(value) || value > deviance + 1e-12 * (Math.abs(deviance) + 0.1);
     while (coefficients && rises(proposedDeviance) && halvings < maxStepHalvings) {
@@ -93,8 +92,7 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
       const previous: Float64Array = coefficients;
       proposal = proposal.map((value, j) => (value + previous[j]!) / 2);
       designTimesVector(design, proposal, linearPredictor);
-      family.meanOf(linearPredictor, mean);
-      proposedDeviance = family.deviance(response, mean, linearPredictor);
+      proposedDeviance = family.meanAndDeviance(response, linearPredictor, mean);
     }
     stepHalvings += halvings;
     if (!Number.isFinite(proposedDeviance) || (coefficients && rises(proposedDeviance))) {
@@ -153,13 +151,13 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
     if (residualDf < 1) throw new ModelInputError("quasi-likelihood dispersion needs more observations than coefficients");
     dispersion = pearsonDispersion(pearsonChiSquare, residualDf);
   }
-  const covariance = information ? Array.from(choleskyInverse(information), (value) => value * dispersion) : new Array<number>(columns * columns).fill(NaN);
+  const covariance = information ? Array.from(information.inverse(), (value) => value * dispersion) : new Array<number>(columns * columns).fill(NaN);
   const standardErrors = Array.from({ length: columns }, (_, j) => Math.sqrt(covariance[j * columns + j]!));
   const coefficientList = Array.from(coefficients);
   const statistics = coefficientList.map((value, j) => value / standardErrors[j]!);
   const statisticName = dispersionMethod === "pearson" ? "t" : "z";
   const pValues = statistics.map((statistic) => (statisticName === "t" ? studentTTwoSidedP(statistic, residualDf) : normalTwoSidedP(statistic)));
-  const logLikelihood = dispersionMethod === "pearson" ? null : family.logLikelihood(response, mean, linearPredictor);
+  const logLikelihood = dispersionMethod === "pearson" ? null : family.logLikelihood(response, mean, linearPredictor, deviance);
   if (dispersionMethod === "pearson" && !(pearsonChiSquare > 1e-10 * rows)) {
     warnings.push(warning("implausible_fit", "Pearson dispersion is 0 to rounding (the model fits every count exactly): quasi-likelihood standard errors are 0 and not usable"));
   }
@@ -179,7 +177,8 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
     dispersionMethod,
     pearsonChiSquare,
     deviance,
-    nullDeviance: nullDevianceOf(design, response, family),
+    // The workspace is free now: its arrays serve as scratch.
+    nullDeviance: nullDevianceOf(design, response, family, { linearPredictor: workspace.weights, mean: workspace.working }),
     residualDf,
     nullDf: rows - (hasInterceptColumn(design) ? 1 : 0),
     logLikelihood,

@@ -27,10 +27,19 @@ export interface GlmFamily {
     weights: Float64Array,
     working: Float64Array,
   ): void;
+  /**
+   * mu = g^{-1}(eta) into `mean` (as meanOf) and the residual deviance at it (as deviance), in one
+   * pass over the observations: scoring and step-halving need both after every move.
+   */
+  meanAndDeviance(response: ArrayLike<number>, linearPredictor: Float64Array, mean: Float64Array): number;
   /** The residual deviance 2 sum [l(y; y) - l(mu; y)]. */
   deviance(response: ArrayLike<number>, mean: Float64Array, linearPredictor: Float64Array): number;
-  /** The log-likelihood at `mean`, with every normalising constant. */
-  logLikelihood(response: ArrayLike<number>, mean: Float64Array, linearPredictor: Float64Array): number;
+  /**
+   * The log-likelihood at `mean`, with every normalising constant. `deviance`, the residual
+   * deviance at the same means when the caller has it, spares the pass where the log-likelihood
+   * is a function of it (binary data: l = -D / 2).
+   */
+  logLikelihood(response: ArrayLike<number>, mean: Float64Array, linearPredictor: Float64Array, deviance?: number): number;
   /** Pearson's chi-square sum (y - mu)^2 / V(mu). */
   pearsonChiSquare(response: ArrayLike<number>, mean: Float64Array): number;
   /** How many fitted means sit within `tolerance` of the edge of the parameter space (0 or 1 / 0). */

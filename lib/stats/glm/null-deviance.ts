@@ -1,8 +1,9 @@
 import type { DesignMatrix } from "../linear/design-matrix";
 import type { GlmFamily } from "./glm-family";
 
-/** Whether some column of the design is all ones. */
+/** Whether some column of the design is all ones (a declared factor-plus-covariates design has its intercept first). */
 export function hasInterceptColumn(design: DesignMatrix): boolean {
+  if (design.factorStructure) return true;
   for (let j = 0; j < design.columns; j += 1) {
     let allOnes = true;
     for (let i = 0; i < design.rows && allOnes; i += 1) allOnes = design.data[i * design.columns + j] === 1;
@@ -11,8 +12,16 @@ export function hasInterceptColumn(design: DesignMatrix): boolean {
   return false;
 }
 
-/** Deviance of the intercept-only model (or of eta = 0 when the design has no intercept). */
-export function nullDevianceOf(design: DesignMatrix, response: ArrayLike<number>, family: GlmFamily): number {
+/**
+ * Deviance of the intercept-only model (or of eta = 0 when the design has no intercept).
+ * `scratch`, two arrays of one entry per row, spares the allocation when a fit has them free.
+ */
+export function nullDevianceOf(
+  design: DesignMatrix,
+  response: ArrayLike<number>,
+  family: GlmFamily,
+  scratch: { linearPredictor: Float64Array; mean: Float64Array } = { linearPredictor: new Float64Array(design.rows), mean: new Float64Array(design.rows) },
+): number {
   const rows = design.rows;
   let eta = 0;
   if (hasInterceptColumn(design)) {
@@ -20,9 +29,9 @@ export function nullDevianceOf(design: DesignMatrix, response: ArrayLike<number>
     for (let i = 0; i < rows; i += 1) sum += response[i]!;
     eta = family.linkOf(sum / rows);
   }
-  const linearPredictor = new Float64Array(rows).fill(eta);
-  const mean = new Float64Array(rows);
+  const { linearPredictor, mean } = scratch;
+  linearPredictor.fill(eta, 0, rows);
   family.meanOf(linearPredictor.subarray(0, 1), mean.subarray(0, 1));
-  mean.fill(mean[0]!);
-  return family.deviance(response, mean, linearPredictor);
+  mean.fill(mean[0]!, 0, rows);
+  return family.deviance(response, mean.subarray(0, rows), linearPredictor.subarray(0, rows));
 }

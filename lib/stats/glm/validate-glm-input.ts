@@ -10,14 +10,19 @@ import type { GlmFamily } from "./glm-family";
  * named). Throws ModelInputError saying what is wrong; returns nothing when the input can be fitted.
  */
 export function validateGlmInput(design: DesignMatrix, response: ArrayLike<number>, family: GlmFamily, options: { checkRank?: boolean } = {}): void {
-  const { rows, columns, data, columnNames } = design;
+  const { rows, columns, columnNames } = design;
   if (rows === 0) throw new ModelInputError("no observations to fit");
   if (response.length !== rows) throw new ModelInputError(`response has ${response.length} values, design has ${rows} rows`);
   if (columns === 0) throw new ModelInputError("the design has no columns");
   if (rows <= columns) throw new ModelInputError(`${rows} observations cannot identify ${columns} coefficients (need more observations than coefficients)`);
-  for (let k = 0; k < data.length; k += 1) {
-    if (!Number.isFinite(data[k]!)) {
-      throw new ModelInputError(`design value in row ${Math.floor(k / columns) + 1}, column ${columnNames[k % columns]} is ${data[k]}`);
+  // A factor-plus-covariates design holds 0/1 factor columns by construction: check its covariates.
+  const structure = design.factorStructure;
+  const values = structure ? structure.covariateValues : design.data;
+  const width = structure ? structure.covariateCount : columns;
+  const firstColumn = structure ? structure.levels : 0;
+  for (let k = 0; k < values.length; k += 1) {
+    if (!Number.isFinite(values[k]!)) {
+      throw new ModelInputError(`design value in row ${Math.floor(k / width) + 1}, column ${columnNames[firstColumn + (k % width)]} is ${values[k]}`);
     }
   }
   const invalid = family.invalidResponse(response);

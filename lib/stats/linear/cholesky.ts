@@ -23,14 +23,17 @@ export type CholeskyOutcome =
 /**
  * Factorises A = L L'. A column whose remaining pivot falls below `relativeTolerance` times its
  * original diagonal is reported as dependent on the earlier columns (rank deficiency).
+ * `referenceDiagonal` replaces A's own diagonal in that test: a Schur complement passes the
+ * diagonal of the full matrix it was reduced from, so that its columns are judged as they would
+ * be in the full factorisation.
  * Example: choleskyFactor(Float64Array.of(4, 2, 2, 3), 2) -> lower = [2, 0, 1, sqrt(2)].
  */
-export function choleskyFactor(matrix: Float64Array, size: number, relativeTolerance = 1e-10): CholeskyOutcome {
+export function choleskyFactor(matrix: Float64Array, size: number, relativeTolerance = 1e-10, referenceDiagonal?: ArrayLike<number>): CholeskyOutcome {
   const lower = new Float64Array(size * size);
   for (let j = 0; j < size; j += 1) {
     let pivot = matrix[j * size + j]!;
     for (let k = 0; k < j; k += 1) pivot -= lower[j * size + k]! ** 2;
-    const original = matrix[j * size + j]!;
+    const original = referenceDiagonal ? referenceDiagonal[j]! : matrix[j * size + j]!;
     if (!(original > 0) || !(pivot > relativeTolerance * original)) return { ok: false, column: j };
     const diagonal = Math.sqrt(pivot);
     lower[j * size + j] = diagonal;

@@ -75,13 +75,13 @@ export interface MetaModelOptions {
 const FEW_STUDIES = 5;
 
 /** Deep-freezes plain objects and arrays; typed arrays are left as they are (they cannot be frozen). */
-function freeze<T>(value: T): T {
+export function freeze<T>(value: T): T {
   if (value === null || typeof value !== "object" || ArrayBuffer.isView(value)) return value;
   for (const key of Object.keys(value)) freeze((value as Record<string, unknown>)[key]);
   return Object.freeze(value);
 }
 
-function resolveControl(options: MetaModelOptions): IterationControl {
+export function resolveControl(options: Pick<MetaModelOptions, "maxIterations" | "tolerance">): IterationControl {
   const maxIterations = options.maxIterations ?? 1000;
   const tolerance = options.tolerance ?? 1e-10;
   if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new ModelInputError(`maxIterations must be a positive integer, got ${maxIterations}`);
@@ -89,7 +89,7 @@ function resolveControl(options: MetaModelOptions): IterationControl {
   return { maxIterations, tolerance };
 }
 
-function checkDesign(data: MetaData, design: DesignMatrix): void {
+export function checkDesign(data: MetaData, design: DesignMatrix): void {
   if (design.rows !== data.k) throw new ModelInputError(`the design has ${design.rows} rows for ${data.k} studies`);
   // x * 0 is 0 for finite x and NaN otherwise: one cheap pass, then a search only on failure.
   let probe = 0;

@@ -98,7 +98,7 @@ export function conditionedInference(fit: WeightedFit, test: InferenceTest, mode
 }
 
 /** b_m' Cov_mm^{-1} b_m over the listed columns. */
-function waldStatistic(coefficients: Float64Array, covariance: Float64Array, p: number, columns: readonly number[]): number {
+export function waldStatistic(coefficients: Float64Array, covariance: Float64Array, p: number, columns: readonly number[]): number {
   const m = columns.length;
   const block = new Float64Array(m * m);
   const sub = new Float64Array(m);

@@ -11,6 +11,8 @@
 import type { StatWarning } from "../warnings";
 import type { InferenceTest, TestDescription } from "./meta-inference";
 import type { MethodDescription, Tau2Method } from "./tau2-estimator";
+import type { MultilevelSummary } from "./multilevel/multilevel-result";
+import type { ClusterRobustInference } from "./robust/cluster-robust-result";
 
 export interface Unavailable {
   readonly available: false;
@@ -182,6 +184,10 @@ export interface MetaModelResult {
   readonly fit: FitInfo;
   readonly warnings: readonly StatWarning[];
   readonly linearPredictor: LinearPredictor;
+  /** Multilevel fits only (multilevel/fit-multilevel-model.ts): variance components per level. */
+  readonly multilevel?: MultilevelSummary;
+  /** When cluster-robust inference was asked for (robust/cluster-robust-inference.ts). */
+  readonly robust?: ClusterRobustInference;
 }
 
 export type { InferenceTest, Tau2Method };

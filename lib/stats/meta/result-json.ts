@@ -5,6 +5,7 @@
  * silently).
  */
 import type { MetaModelResult } from "./meta-result";
+import { multilevelJson, robustJson, varianceComponentsJson, type MultilevelJson, type RobustJson, type VarianceComponentJson } from "./multilevel/multilevel-json";
 import { Q_PROFILE_DESCRIPTION } from "./q-profile-interval";
 
 export interface MetaResultJson {
@@ -45,6 +46,12 @@ export interface MetaResultJson {
     q_df: number;
     q_p: number;
   };
+  /** Multilevel models: one variance component per level, outermost first; null for single-level models. */
+  variance_components: VarianceComponentJson[] | null;
+  /** Multilevel models: totals, information criteria, methods; null otherwise. */
+  multilevel: MultilevelJson | null;
+  /** Cluster-robust (CR2) inference when clusters were given; null otherwise. */
+  robust: RobustJson | null;
   moderators_test: { statistic: number; distribution: string; df: number; df2: number | null; p_value: number; terms: string[] } | null;
   residual_heterogeneity: { q: number; df: number; p_value: number } | null;
   prediction_interval: [number, number] | null;
@@ -150,6 +157,9 @@ export function metaResultToJson(result: MetaModelResult, options: ResultJsonOpt
       q_df: h.qDf,
       q_p: finite(h.qPValue, "q_p"),
     },
+    variance_components: result.multilevel ? varianceComponentsJson(result.multilevel) : null,
+    multilevel: result.multilevel ? multilevelJson(result.multilevel) : null,
+    robust: result.robust ? robustJson(result.robust) : null,
     moderators_test: result.moderatorTest
       ? {
           statistic: finite(result.moderatorTest.statistic, "moderators_test statistic"),

@@ -3,7 +3,9 @@ import { fitGlm } from "@/lib/stats/glm/fit-glm";
 import { binomialLogit } from "@/lib/stats/glm/binomial-logit";
 import { poissonLog } from "@/lib/stats/glm/poisson-log";
 import { coefficientOf } from "@/lib/stats/glm/glm-result";
-import { designMatrix } from "@/lib/stats/linear/design-matrix";
+import { designMatrix, type DesignMatrix } from "@/lib/stats/linear/design-matrix";
+import { factorDesign } from "@/lib/stats/linear/treatment-contrasts";
+import { createRandomStream } from "@/lib/stats/random/xoshiro128";
 import { ModelInputError } from "@/lib/stats/model-error";
 import { expectAllClose, expectClose } from "@/test/helpers/expect-close";
 import { readRFixture } from "@/test/helpers/r-fixture";
@@ -170,5 +172,59 @@ describe("hostile input", () => {
     const fit = fitGlm(designMatrix(4, ["intercept"], Float64Array.of(1, 1, 1, 1)), [0, 0, 0, 0], binomialLogit);
     expect(fit.separation.kind).toBe("complete");
     expect(fit.converged).toBe(false);
+  });
+});
+
+describe("a declared factor-plus-covariates design (year + c + c^2) is fitted through its factor block", () => {
+  // The R comparisons of these models are in test/estimates/compute-site-estimates.test.ts
+  // (brood-glm-*.json); here the factor-block route is held to the dense route on the same matrix.
+  const random = createRandomStream(4503);
+  const years: number[] = [];
+  const within: number[] = [];
+  const failed: number[] = [];
+  const fledged: number[] = [];
+  for (let y = 0; y < 15; y += 1) {
+    const yearEffect = random.nextFloat() - 0.5;
+    for (let b = 0, size = 20 + random.nextInt(60); b < size; b += 1) {
+      const c = 12 * (random.nextFloat() - 0.5);
+      years.push(2000 + y);
+      within.push(c);
+      failed.push(random.nextFloat() < 1 / (1 + Math.exp(1.2 - yearEffect - 0.05 * c - 0.004 * c * c)) ? 1 : 0);
+      fledged.push(Math.round(Math.exp(1.8 + yearEffect / 3 - 0.01 * c * c) * (0.6 + 0.8 * random.nextFloat())));
+    }
+  }
+  const structured = factorDesign("year", years, { c: within, c_squared: within.map((c) => c * c) }).design;
+  const dense: DesignMatrix = designMatrix(structured.rows, structured.columnNames, Float64Array.from(structured.data));
+
+  it.each([
+    ["binomial", binomialLogit, failed, "fixed"],
+    ["quasi-Poisson", poissonLog, fledged, "pearson"],
+  ] as const)("%s: every coefficient, SE and fit statistic agrees with the dense route to 1e-10", (_, family, response, dispersion) => {
+    const viaBlock = fitGlm(structured, response, family, { dispersion });
+    const viaDense = fitGlm(dense, response, family, { dispersion });
+    expect(viaBlock.converged).toBe(true);
+    expect(viaBlock.iterations).toBe(viaDense.iterations);
+    expect(viaBlock.coefficientNames).toEqual(viaDense.coefficientNames);
+    expectAllClose(viaBlock.coefficients, viaDense.coefficients, { rtol: 1e-10, atol: 1e-12, label: "coefficients" });
+    expectAllClose(viaBlock.standardErrors, viaDense.standardErrors, { rtol: 1e-10, label: "SE" });
+    expectAllClose(viaBlock.covariance, viaDense.covariance, { rtol: 1e-10, atol: 1e-14, label: "covariance" });
+    for (const key of ["deviance", "nullDeviance", "pearsonChiSquare", "dispersion"] as const) expectClose(viaBlock[key], viaDense[key], { rtol: 1e-12, label: key });
+    expect(viaBlock.nullDf).toBe(viaDense.nullDf);
+    expect(viaBlock.separation).toEqual(viaDense.separation);
+  });
+
+  it("finds the same separation when one year's outcome never varies", () => {
+    const response = failed.map((y, i) => (years[i] === 2003 ? 0 : y));
+    const viaBlock = fitGlm(structured, response, binomialLogit);
+    const viaDense = fitGlm(dense, response, binomialLogit);
+    expect(viaBlock.separation.kind).toBe("quasi_complete");
+    expect(viaBlock.separation).toEqual(viaDense.separation);
+    expect(viaBlock.separation.divergingCoefficients).toContain("year[2003]");
+    expect(viaBlock.converged).toBe(false);
+  });
+
+  it("names the row and covariate column of a non-finite covariate value", () => {
+    const { design } = factorDesign("year", [1, 1, 2, 2, 2], { c: [0.1, 0.2, NaN, 0.4, 0.5] });
+    expect(() => fitGlm(design, [0, 1, 0, 1, 1], binomialLogit)).toThrow(/row 3, column c is NaN/);
   });
 });

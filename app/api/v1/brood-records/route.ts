@@ -3,8 +3,8 @@ import { apiRoutes } from "@/lib/api/routes";
 import { getDb } from "@/lib/db/client";
 import { listBroodRecords } from "@/lib/network/list-brood-records";
 
-export const GET = handleRoute(apiRoutes.listBroodRecords, async ({ query: { limit, offset, ...filter } }) => ({
-  ...(await listBroodRecords(getDb(), filter, { limit, offset })),
+export const GET = handleRoute(apiRoutes.listBroodRecords, async ({ query: { limit, offset, ...filter }, siteScope }) => ({
+  ...(await listBroodRecords(getDb(), filter, siteScope, { limit, offset })),
   limit,
   offset,
 }));

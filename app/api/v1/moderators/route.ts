@@ -5,4 +5,4 @@ import { createModerator, listModerators } from "@/lib/network/moderators";
 
 export const GET = handleRoute(apiRoutes.listModerators, async () => ({ items: await listModerators(getDb()) }));
 
-export const POST = handleRoute(apiRoutes.createModerator, async ({ body }) => createModerator(getDb(), body));
+export const POST = handleRoute(apiRoutes.createModerator, async ({ body, actor }) => createModerator(getDb(), body, actor));

@@ -10,4 +10,4 @@ export const GET = handleRoute(apiRoutes.listSites, async () => {
   return { items, totals: networkTotals(items) };
 });
 
-export const POST = handleRoute(apiRoutes.createSite, async ({ body }) => presentSite(await createSite(getDb(), body)));
+export const POST = handleRoute(apiRoutes.createSite, async ({ body, actor }) => presentSite(await createSite(getDb(), body, actor)));

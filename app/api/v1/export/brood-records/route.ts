@@ -5,7 +5,7 @@ import { getDb } from "@/lib/db/client";
 import { broodRecordsCsv } from "@/lib/export/record-csv";
 import { listBroodRecords } from "@/lib/network/list-brood-records";
 
-export const GET = handleRoute(apiRoutes.exportBroodRecords, async ({ query: { format, ...filter } }) => {
-  const { items } = await listBroodRecords(getDb(), filter);
+export const GET = handleRoute(apiRoutes.exportBroodRecords, async ({ query: { format, ...filter }, siteScope }) => {
+  const { items } = await listBroodRecords(getDb(), filter, siteScope);
   return format === "csv" ? csvResponse(broodRecordsCsv(items), "phenopool-brood-records.csv") : items;
 });

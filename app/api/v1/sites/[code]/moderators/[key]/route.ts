@@ -3,4 +3,4 @@ import { apiRoutes } from "@/lib/api/routes";
 import { getDb } from "@/lib/db/client";
 import { setModeratorValue } from "@/lib/network/moderators";
 
-export const PUT = handleRoute(apiRoutes.setModeratorValue, async ({ params, body }) => setModeratorValue(getDb(), params.code, params.key, body));
+export const PUT = handleRoute(apiRoutes.setModeratorValue, async ({ params, body, actor }) => setModeratorValue(getDb(), params.code, params.key, body, actor));

@@ -1,0 +1,2 @@
+-- A submission can be withdrawn (soft delete): status 'withdrawn' (PostgreSQL).
+ALTER TYPE "SubmissionStatus" ADD VALUE IF NOT EXISTS 'withdrawn';
