@@ -1,11 +1,11 @@
 import { mkdirSync } from "node:fs";
 import { dirname } from "node:path";
-import { PrismaBetterSqlite3 } from "@prisma/adapter-better-sqlite3";
 import { PrismaPg } from "@prisma/adapter-pg";
 import { PrismaClient as SqliteClient } from "./generated/sqlite/client";
 import { PrismaClient as PostgresClient } from "./generated/postgresql/client";
 import { readEnv } from "../config/env";
 import { providerOf, sqlitePath } from "./provider";
+import { SqliteConnections } from "./sqlite-connections";
 
 /**
  * The database client. Both generated clients share one data model, so the PostgreSQL one
@@ -14,7 +14,7 @@ import { providerOf, sqlitePath } from "./provider";
 export type Db = SqliteClient;
 export type DbTransaction = Parameters<Parameters<Db["$transaction"]>[0]>[0];
 
-/** SQLite waits this long for a lock before giving up, so concurrent writers queue. */
+/** SQLite waits this long for another process's lock before giving up, so concurrent writers queue. */
 export const SQLITE_BUSY_TIMEOUT_MS = 15_000;
 
 export function createDb(url: string): Db {
@@ -23,7 +23,8 @@ export function createDb(url: string): Db {
   }
   const path = sqlitePath(url);
   if (path !== ":memory:") mkdirSync(dirname(path), { recursive: true });
-  return new SqliteClient({ adapter: new PrismaBetterSqlite3({ url, timeout: SQLITE_BUSY_TIMEOUT_MS }) });
+  // One writing and one reading connection: see sqlite-connections.ts.
+  return new SqliteClient({ adapter: new SqliteConnections({ path, busyTimeoutMs: SQLITE_BUSY_TIMEOUT_MS }) });
 }
 
 const cache = globalThis as unknown as { phenopoolDb?: { url: string; db: Db } };

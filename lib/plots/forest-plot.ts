@@ -49,7 +49,8 @@ const COLUMNS = { label: 10, detail: 220, n: 430, plotStart: 470, plotEnd: 760, 
 const HEADER = 46;
 const FOOTER = 58;
 
-function numberText(value: number): string {
+/** A number as plots print it: three decimals (one from 10 up), never "-0.000". */
+export function numberText(value: number): string {
   if (!Number.isFinite(value)) return String(value);
   const fixed = value.toFixed(Math.abs(value) >= 10 ? 1 : 3);
   // No "-0.000": a value that rounds to zero is printed as zero.

@@ -77,3 +77,23 @@ export function fitLabel(label: string, maxWidth: number, fontSize = 12): string
   const keep = Math.max(1, Math.floor(maxWidth / (fontSize * 0.53)) - 1);
   return `${label.slice(0, keep)}…`;
 }
+
+/**
+ * Breaks `content` into lines of at most `maxWidth` px (approximate widths, as fitLabel), at
+ * spaces; a word longer than a line is kept whole. Example: wrapText("a b c", 20, 12) -> ["a b", "c"].
+ */
+export function wrapText(content: string, maxWidth: number, fontSize = 12): string[] {
+  const lines: string[] = [];
+  let line = "";
+  for (const word of content.split(/\s+/).filter(Boolean)) {
+    const candidate = line ? `${line} ${word}` : word;
+    if (line && approximateTextWidth(candidate, fontSize) > maxWidth) {
+      lines.push(line);
+      line = word;
+    } else {
+      line = candidate;
+    }
+  }
+  if (line) lines.push(line);
+  return lines;
+}

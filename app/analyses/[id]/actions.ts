@@ -4,9 +4,7 @@ import { redirect } from "next/navigation";
 import { z } from "zod";
 import { getDb } from "@/lib/db/client";
 import { runAnalysis } from "@/lib/analyses/run-analysis";
-import { authorize } from "@/lib/auth/policy";
-import { readNetworkSettings } from "@/lib/settings/network-settings";
-import { currentActor } from "../../_server/current-actor";
+import { requireActionActor } from "../../_server/current-actor";
 import { formStateFromError, type FormState } from "../../_server/form-state";
 
 const analysisIdSchema = z.coerce.number().int().positive().max(2 ** 31 - 1);
@@ -16,8 +14,7 @@ export async function runAnalysisAction(_previous: FormState, form: FormData): P
   try {
     const analysisId = analysisIdSchema.parse(form.get("analysisId"));
     const db = getDb();
-    const actor = await currentActor();
-    authorize(actor, "analysis.run", {}, await readNetworkSettings(db));
+    const actor = await requireActionActor("analysis.run");
     const run = await runAnalysis(db, analysisId, actor);
     target = `/analyses/${analysisId}?run=${run.id}`;
   } catch (error) {

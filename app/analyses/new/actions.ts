@@ -4,9 +4,7 @@ import { redirect } from "next/navigation";
 import { getDb } from "@/lib/db/client";
 import { analysisSpecificationSchema } from "@/lib/analyses/specification";
 import { createAnalysis } from "@/lib/analyses/analyses";
-import { authorize } from "@/lib/auth/policy";
-import { readNetworkSettings } from "@/lib/settings/network-settings";
-import { currentActor } from "../../_server/current-actor";
+import { requireActionActor } from "../../_server/current-actor";
 import { formStateFromError, formStateFromZod, type FormState } from "../../_server/form-state";
 
 const text = (form: FormData, key: string) => {
@@ -49,8 +47,7 @@ export async function createAnalysisAction(_previous: FormState, form: FormData)
   let id: number;
   try {
     const db = getDb();
-    const actor = await currentActor();
-    authorize(actor, "analysis.save", {}, await readNetworkSettings(db));
+    const actor = await requireActionActor("analysis.save");
     const parsed = analysisSpecificationSchema.safeParse(specificationFromForm(form));
     if (!parsed.success) return formStateFromZod(parsed.error);
     id = (await createAnalysis(db, parsed.data, actor)).id;

@@ -79,7 +79,12 @@ export function conditionedInference(fit: WeightedFit, test: InferenceTest, mode
   let scale = 1;
   if (test === "hksj") {
     scale = fit.q / residualDf;
-    if (!(scale > 0)) {
+    // Q is a sum of squared residuals: when the residuals are at rounding level relative to the
+    // estimates (an exact fit), Q is noise, and so would every standard error be.
+    let weightedSquares = 0;
+    for (let i = 0; i < fit.problem.k; i += 1) weightedSquares += fit.weights[i]! * fit.problem.estimates[i]! ** 2;
+    const roundingLevel = 1e4 * Number.EPSILON ** 2 * weightedSquares;
+    if (!(scale > 0) || fit.q <= roundingLevel) {
       throw new ModelInputError(
         "Knapp-Hartung inference is undefined here: the estimates fit the model exactly (generalised Q = 0), which would make every standard error 0; use the z test",
       );

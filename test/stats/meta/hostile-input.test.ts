@@ -102,6 +102,9 @@ describe("refused input (ModelInputError with a reason)", () => {
     const exact = metaData({ estimates: [0.3, 0.3, 0.3], variances: [0.1, 0.2, 0.3] });
     expect(() => fitMetaModel(exact, { method: "fe", test: "hksj" })).toThrow(ModelInputError);
     expect(() => fitMetaModel(exact, { method: "fe", test: "hksj" })).toThrow(/generalised Q = 0/);
+    // Two equal estimates whose residuals are pure rounding (Q about 1e-33, not exactly 0) are refused too.
+    const rounding = metaData({ estimates: [0.1, 0.1], variances: [0.013, 0.029] });
+    expect(() => fitMetaModel(rounding, { method: "fe", test: "hksj" })).toThrow(/generalised Q = 0/);
   });
 });
 

@@ -25,6 +25,8 @@ export interface MultilevelReference {
   levels: string[];
   groups: number[];
   sigma2: number[];
+  /** Inverse observed-information SEs; null at the boundary. */
+  sigma2_se: (number | null)[];
   gradient_max: number;
   log_likelihood: number;
   beta: number[];

@@ -104,6 +104,12 @@ describe("awkward multilevel input that must fit, honestly reported", () => {
     expect(fit.fit.converged).toBe(false);
     const message = fit.warnings.find((w) => w.code === "non_convergence")!.message;
     expect(message).toMatch(/did not converge after 1 steps \(the iteration limit \(1\) was reached\)/);
+    // No interval, test or standard error is measured from a point that is not the maximum.
+    for (const component of fit.multilevel!.components) {
+      expect(component.standardError).toBeNull();
+      expect(component.test.available).toBe(false);
+      expect(!component.test.available && component.test.reason).toMatch(/did not converge/);
+    }
   });
 
   it("without profile intervals the boundary tests are still computed (from the refits without each level)", () => {

@@ -3,7 +3,8 @@
  * R 4.2.2): R writes out V = diag(v) + sum sigma2_l Z_l Z_l' as a dense k x k matrix, maximises the
  * (restricted) likelihood with optim (L-BFGS-B, lower bound 0) and its analytic gradient, polishes
  * with Newton steps (|gradient| at R's optimum about 1e-12), finds the profile-likelihood limits
- * with uniroot, and computes the fixed effects by generalised least squares. The engine never forms
+ * with uniroot, computes the fixed effects by generalised least squares and the components' SEs
+ * from minus the inverse Hessian. The engine never forms
  * a k x k matrix, so agreement checks the tree recursions as well as the optimiser.
  * Precision stated per quantity below.
  */
@@ -28,6 +29,10 @@ function checkAgainstR(result: MetaModelResult, ref: MultilevelReference, label:
     if (expected === 0) expect(component.sigma2, `${label} ${component.level} sigma2 at the boundary (R: L-BFGS-B bound active)`).toBe(0);
     // Near-boundary components are compared on the scale of the total variance.
     else expectClose(component.sigma2, expected, { rtol: SIGMA2_RTOL, atol: 1e-9 * ref.sigma2.reduce((a, b) => a + b, 0), label: `${label} ${component.level} sigma2 (R optim)` });
+    // Both sides difference the analytic score (R: step 1e-5 sigma2, here 1e-4 sigma2).
+    const se = ref.sigma2_se[l];
+    if (se === null || se === undefined) expect(component.standardError, `${label} ${component.level} SE at the boundary`).toBeNull();
+    else expectClose(component.standardError!, se, { rtol: 1e-5, label: `${label} ${component.level} SE (R, inverse observed information)` });
     expect(component.interval.available, `${label} ${component.level} interval`).toBe(true);
     if (component.interval.available) {
       const [lower, upper] = ref.profile_ci[l]!;

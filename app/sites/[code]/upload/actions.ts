@@ -1,14 +1,12 @@
 "use server";
 
 import { getDb } from "@/lib/db/client";
-import { authorize } from "@/lib/auth/policy";
-import { readNetworkSettings } from "@/lib/settings/network-settings";
 import { AppError } from "@/lib/errors/app-error";
 import { uploadSourceFromBytes } from "@/lib/ingest/upload-source";
 import { problemsToCsv } from "@/lib/ingest/upload-problem";
 import { previewUpload, type UploadPreview } from "@/lib/submissions/preview-upload";
 import { acceptUpload, type AcceptUploadResult } from "@/lib/submissions/accept-upload";
-import { currentActor } from "../../../_server/current-actor";
+import { requireActionActor } from "../../../_server/current-actor";
 import { formStateFromError, type FormState } from "../../../_server/form-state";
 
 export type PreviewState = FormState & { preview: (UploadPreview & { problemsCsv: string }) | null };
@@ -38,11 +36,10 @@ function uploadRequest(form: FormData) {
 
 async function authorizedSource(form: FormData) {
   const db = getDb();
-  const actor = await currentActor();
   const siteCode = field(form, "siteCode") ?? "";
   const site = await db.site.findUnique({ where: { code: siteCode }, select: { id: true } });
   if (!site) throw new AppError("not_found", `site code ${siteCode} is not in this network`);
-  authorize(actor, "submission.create", { siteId: site.id }, await readNetworkSettings(db));
+  const actor = await requireActionActor("submission.create", { siteId: site.id });
   const file = form.get("file");
   if (!(file instanceof File) || file.size === 0) throw new AppError("invalid_input", "choose a file to upload", [{ field: "file", message: "no file chosen" }]);
   return { db, actor, source: uploadSourceFromBytes(file.name || "upload", new Uint8Array(await file.arrayBuffer())) };

@@ -24,6 +24,11 @@
  * boundary tests, standard errors), robust/ (CR2). Fixed effects: generalised least squares at the
  * estimated components with Wald z tests. With moderators, s^2 and I^2 are residual, with
  * s^2 = (k - p) / tr P(0) as in heterogeneity.ts (Higgins & Thompson's s^2 when p = 1).
+ * The prediction interval is for a new estimate in a new group at every level: the engine's
+ * prediction-interval.ts with tau^2 = the sum of the components and t on k - p - 1 df (our
+ * convention, carried over from the single-level model; with many estimates it is close to the
+ * normal quantile). Intervals, tests and component SEs are withheld (with the reason) when the
+ * optimiser did not converge.
  */
 import { interceptOnly, type DesignMatrix } from "../../linear/design-matrix";
 import { ModelInputError } from "../../model-error";
@@ -189,13 +194,15 @@ export function fitMultilevelModel(data: MetaData, options: MultilevelModelOptio
   const conditionedCovariance = Float64Array.from(work.inverse);
   const rows = work.inverseTimesDesignRows();
 
-  const standardErrors = observedInformationStandardErrors(work, method, sigma2);
+  // Intervals, tests and standard errors describe the maximum; from a point that is not one they would mislead.
+  const standardErrors = fitted.converged ? observedInformationStandardErrors(work, method, sigma2) : new Array<number | null>(depth).fill(null);
+  const notConverged: Unavailable = { available: false, reason: "the variance components did not converge, so there is no maximum to measure from" };
   const totalSigma2 = sigma2.reduce((sum, s) => sum + s, 0);
   const components: VarianceComponent[] = levels.names.map((level, l) => {
     const value = sigma2[l]!;
-    let interval: VarianceComponentInterval | Unavailable = { available: false, reason: "profile-likelihood intervals were not asked for" };
+    let interval: VarianceComponentInterval | Unavailable = fitted.converged ? { available: false, reason: "profile-likelihood intervals were not asked for" } : notConverged;
     let atZero: { logLikelihood: number; converged: boolean } | null = null;
-    if (options.profileIntervals ?? true) {
+    if ((options.profileIntervals ?? true) && fitted.converged) {
       const scale = standardErrors[l] ?? (value > 0 ? value : typicalVariance);
       const limits = profileLimits(work, method, sigma2, maximum, l, confidenceLevel, scale, control);
       atZero = { logLikelihood: limits.logLikelihoodAtZero, converged: limits.zeroConverged };
@@ -206,9 +213,11 @@ export function fitMultilevelModel(data: MetaData, options: MultilevelModelOptio
         warnings.push(warning("interval_unavailable", `no profile-likelihood interval for the variance at level '${level}': ${interval.reason}`));
       }
     }
-    if (atZero === null || !atZero.converged) atZero = value > 0 ? logLikelihoodWithout(work, method, sigma2, l, control) : { logLikelihood: maximum, converged: true };
-    const test = atZero.converged
-      ? { available: true as const, ...boundaryTest(maximum, atZero.logLikelihood), distribution: "50:50 mixture of chi2_0 and chi2_1" as const, description: BOUNDARY_TEST_DESCRIPTION }
+    if (fitted.converged && (atZero === null || !atZero.converged)) atZero = value > 0 ? logLikelihoodWithout(work, method, sigma2, l, control) : { logLikelihood: maximum, converged: true };
+    const test = !fitted.converged
+      ? notConverged
+      : atZero!.converged
+      ? { available: true as const, ...boundaryTest(maximum, atZero!.logLikelihood), distribution: "50:50 mixture of chi2_0 and chi2_1" as const, description: BOUNDARY_TEST_DESCRIPTION }
       : { available: false as const, reason: "the fit without this level did not converge" };
     if (value === 0) {
       warnings.push(warning("boundary_variance_component", `the variance at level '${level}' is estimated as 0 (the boundary of its range): this level adds no variance beyond the others`));

@@ -452,7 +452,7 @@ export class NestedLikelihood {
   /**
    * Per-estimate rows of V^{-1} [X, 1] at the last evaluation (k x (p + 1), row-major), for
    * weights, leverages and diagnostics: (V^{-1}c)_i = (c_i - psi_g) / v_i, g the innermost group.
-   * Needs a preceding evaluation with WITH_SCORE (it reuses d_g) and makes one O(k) pass.
+   * Reuses d_g of the last evaluation and makes one O(k) pass.
    */
   inverseTimesDesignRows(): Float64Array {
     const { k, p, levels, design, variances } = this.problem;

@@ -66,7 +66,7 @@ export interface WithinBetweenComparison {
   readonly explanation: string;
 }
 
-function describe(value: number): string {
+function threeDigits(value: number): string {
   return Number(value.toPrecision(3)).toString();
 }
 
@@ -119,7 +119,7 @@ export function compareWithinBetween(data: MetaData, input: WithinBetweenInput):
   let explanation: string;
   if (withinInterval[0]! <= 0 && withinInterval[1]! >= 0) {
     answer = "undetermined";
-    explanation = `the within-year mean effect ${describe(within.estimate)} (${level} CI [${describe(withinInterval[0]!)}, ${describe(withinInterval[1]!)}]) is not distinguishable from 0, so whether between-year effects are weaker has no direction; difference between - within ${describe(difference.estimate)}`;
+    explanation = `the within-year mean effect ${threeDigits(within.estimate)} (${level} CI [${threeDigits(withinInterval[0]!)}, ${threeDigits(withinInterval[1]!)}]) is not distinguishable from 0, so whether between-year effects are weaker has no direction; difference between - within ${threeDigits(difference.estimate)}`;
   } else {
     const sign = Math.sign(within.estimate);
     const shrinkLower = -sign * (sign > 0 ? difference.ciUpper : difference.ciLower);
@@ -131,7 +131,7 @@ export function compareWithinBetween(data: MetaData, input: WithinBetweenInput):
         : answer === "stronger"
           ? "between-year effects are stronger (further from zero) than within-year effects"
           : "the data do not distinguish between-year from within-year effects";
-    explanation = `${verdict}: within-year mean ${describe(within.estimate)}, between-year mean ${describe(between.estimate)}, difference ${describe(difference.estimate)} (${level} CI [${describe(difference.ciLower)}, ${describe(difference.ciUpper)}], p = ${describe(difference.pValue)}${difference.df === null ? ", Wald z" : `, CR2 t on ${describe(difference.df)} df`})`;
+    explanation = `${verdict}: within-year mean ${threeDigits(within.estimate)}, between-year mean ${threeDigits(between.estimate)}, difference ${threeDigits(difference.estimate)} (${level} CI [${threeDigits(difference.ciLower)}, ${threeDigits(difference.ciUpper)}], p = ${threeDigits(difference.pValue)}${difference.df === null ? ", Wald z" : `, CR2 t on ${threeDigits(difference.df)} df`})`;
   }
   return { fit, within, between, difference, inference: source ? "CR2 by site (t, Satterthwaite df)" : "model-based (Wald z)", answer, explanation };
 }
