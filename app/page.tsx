@@ -21,6 +21,9 @@ const COLUMNS: { key: SiteSortKey; label: string; numeric: boolean }[] = [
   { key: "longitude", label: "Longitude", numeric: true },
   { key: "study_years", label: "Study years", numeric: true },
 ];
+/** Short words for the data kinds in the table's narrow column. */
+const KIND_SHORT = { brood_records: "broods", site_year_covariates: "site-years", estimates: "own estimates" } as const;
+
 const COUNT_COLUMNS: { key: SiteSortKey; label: string }[] = [
   { key: "broods", label: "Broods" },
   { key: "estimates", label: "Estimates" },
@@ -135,7 +138,7 @@ export default async function NetworkPage({ searchParams }: { searchParams: Prom
                   <td className="num" title={String(site.longitude)}>{formatLongitude(site.longitude)}</td>
                   <td className="num">{site.firstYear}–{site.lastYear}</td>
                   <td className="num">{site.recordYears ? `${site.recordYears.first}–${site.recordYears.last} (${site.coverage.broodsByYear.length})` : "—"}</td>
-                  <td className="summary">{site.coverage.dataKinds.map((k) => KIND_LABELS[k].toLowerCase()).join(", ") || "none"}</td>
+                  <td className="summary">{site.coverage.dataKinds.map((k) => KIND_SHORT[k]).join(", ") || "none"}</td>
                   <td className="num">{formatCount(site.broodCount)}</td>
                   <td className="num">{formatCount(site.estimateCount)}</td>
                 </tr>

@@ -58,7 +58,8 @@ export function ChartFigure({ svg, csv, fileName, caption }: ChartFigureProps) {
   const onPng = useCallback(async () => download(await svgToPng(svg), `${fileName}.png`), [svg, fileName]);
   return (
     <figure className="chart">
-      <div className="chart-scroll" dangerouslySetInnerHTML={{ __html: svg }} />
+      {/* Focusable so the keyboard can scroll a chart larger than its box. */}
+      <div className="chart-scroll" tabIndex={0} role="group" aria-label={`${caption} (scrolls)`} dangerouslySetInnerHTML={{ __html: svg }} />
       <figcaption>
         {caption}
         <span className="chart-downloads" role="group" aria-label={`Download ${caption}`}>

@@ -6,7 +6,8 @@ import { parseStoredSpecification } from "./analyses";
 import { selectAnalysisDataset, type AnalysisDataset } from "./analysis-dataset";
 import { dataFingerprint } from "./data-fingerprint";
 import { ENGINE_VERSION } from "./engine-version";
-import { fitAnalysis } from "./fit-analysis";
+import { fitAnalysisWithPermutations } from "./fit-analysis";
+import type { BlockProgress } from "./permutation-blocks";
 import { metaResultToJson } from "../stats/meta/result-json";
 import type { AnalysisSpecification } from "./specification";
 
@@ -85,14 +86,15 @@ async function view(db: Db, run: { id: number; analysisId: number; createdAt: Da
  * moderators, fits the model, and stores an AnalysisRun with the data fingerprint and the engine
  * version, with its audit entry in the same transaction. Throws AppError not_found for an unknown
  * analysis and cannot_compute (with the reason) when nothing matches or the model cannot be
- * fitted; nothing is stored then.
+ * fitted; nothing is stored then. A permutation test runs in blocks, telling `progress` after
+ * each (which may throw to stop the run: nothing is stored then either).
  */
-export async function runAnalysis(db: Db, analysisId: number, actor: Actor): Promise<AnalysisRunView> {
+export async function runAnalysis(db: Db, analysisId: number, actor: Actor, options: { progress?: BlockProgress } = {}): Promise<AnalysisRunView> {
   const analysis = await db.analysis.findUnique({ where: { id: analysisId } });
   if (!analysis) throw new AppError("not_found", `analysis ${analysisId} does not exist`, [{ field: "id", message: "unknown analysis", value: String(analysisId) }]);
   const spec = parseStoredSpecification(analysis.id, analysis.specification);
   const dataset = await selectAnalysisDataset(db, spec);
-  const fit = fitAnalysis(spec, dataset);
+  const fit = await fitAnalysisWithPermutations(spec, dataset, options.progress);
   const fingerprint = dataFingerprint(dataset);
   const run = await db.$transaction(async (tx) => {
     const created = await tx.analysisRun.create({

@@ -1,4 +1,4 @@
-import type { ForestPlotInput, ForestRow } from "../plots/forest-plot";
+import type { ForestPlotInput, ForestRow, ForestSummary } from "../plots/forest-plot";
 import type { FunnelPlotInput } from "../plots/funnel-plot";
 import type { BubblePlotInput } from "../plots/bubble-plot";
 import { toCsv } from "../export/csv";
@@ -22,7 +22,8 @@ export interface Figure<Input> {
 
 export type ForestSort = "input" | "estimate" | "weight" | "latitude" | "warming_rate";
 
-function effectAxisLabel(run: StoredRun): string {
+/** The effect axis of a run's plots: outcome, level, term and scale. */
+export function effectAxisLabel(run: StoredRun): string {
   const spec = run.specification;
   const outcome = OUTCOME_LABELS[spec.outcome as OutcomeName] ?? spec.outcome;
   const level = LEVEL_LABELS[spec.level as keyof typeof LEVEL_LABELS] ?? spec.level;
@@ -37,15 +38,17 @@ function criticalValue(run: StoredRun): number {
   return df === null ? normalQuantileStd(1 - (1 - level) / 2) : studentTQuantile(1 - (1 - level) / 2, df);
 }
 
-function studyLabel(study: StoredRun["selection"]["studies"][number]): string {
+/** A pooled study's label: the site code, with the year for a site-year estimate. */
+export function studyLabel(study: StoredRun["selection"]["studies"][number]): string {
   return study.year === null ? study.siteCode : `${study.siteCode} ${study.year}`;
 }
 
 /**
  * Forest plot of the run: one row per pooled estimate in the chosen order, optional grouping by
- * species, and for an intercept-only model the pooled diamond and prediction interval.
+ * species (with a diamond per species when `groupSummaries` gives them), and for an
+ * intercept-only model the pooled diamond and prediction interval.
  */
-export function forestFigure(run: StoredRun, options: { sort?: ForestSort; groupBySpecies?: boolean } = {}): Figure<ForestPlotInput> {
+export function forestFigure(run: StoredRun, options: { sort?: ForestSort; groupBySpecies?: boolean; groupSummaries?: Array<ForestSummary & { group: string }> } = {}): Figure<ForestPlotInput> {
   const z = normalQuantileStd(1 - (1 - run.fit.model.confidence_level) / 2);
   const studies = run.selection.studies.map((study, index) => ({ study, weight: run.fit.studies[index]!.weight_percent }));
   const sort = options.sort ?? "input";
@@ -73,6 +76,7 @@ export function forestFigure(run: StoredRun, options: { sort?: ForestSort; group
     pooled: pooled ? { label: `${run.fit.model.method_name} pooled`, estimate: pooled.estimate, ciLower: pooled.ci_lower, ciUpper: pooled.ci_upper } : null,
     prediction: interceptOnly && run.fit.prediction_interval ? { lower: run.fit.prediction_interval[0]!, upper: run.fit.prediction_interval[1]! } : null,
     confidenceLevel: run.fit.model.confidence_level,
+    ...(options.groupBySpecies && options.groupSummaries ? { groupSummaries: options.groupSummaries } : {}),
     idPrefix: "forest",
   };
   const csv = toCsv(
@@ -116,6 +120,32 @@ export function funnelFigure(run: StoredRun, filled: { estimate: number; standar
     [...points.map((p) => ({ ...p, imputed: false })), ...input.filled!.map((p) => ({ ...p, imputed: true }))],
   );
   return { input, csv, fileName: "funnel-plot" };
+}
+
+/**
+ * Funnel plot of a meta-regression: each estimate's residual (estimate minus the model's fitted
+ * value at its moderators) against its SE, around zero, so asymmetry not explained by the
+ * moderators shows. Null for an intercept-only run (use funnelFigure).
+ */
+export function residualFunnelFigure(run: StoredRun): Figure<FunnelPlotInput> | null {
+  if (run.fit.coefficients.length === 1) return null;
+  const points = run.selection.studies.map((s, i) => ({ label: studyLabel(s), estimate: s.value - run.fit.studies[i]!.fitted, standardError: s.standardError }));
+  const input: FunnelPlotInput = {
+    title: `${run.specification.name}: funnel plot of the meta-regression residuals`,
+    effectLabel: `Residual: estimate − fitted value (${effectAxisLabel(run)})`,
+    points,
+    pooledEstimate: 0,
+    idPrefix: "funnel",
+  };
+  const csv = toCsv(
+    [
+      { header: "study", value: (p: (typeof points)[number]) => p.label },
+      { header: "residual", value: (p) => p.estimate },
+      { header: "standard_error", value: (p) => p.standardError },
+    ],
+    points,
+  );
+  return { input, csv, fileName: "residual-funnel-plot" };
 }
 
 const BAND_POINTS = 41;

@@ -32,6 +32,17 @@ export const analysisSubsetsSchema = z
     }
   });
 
+export const permutationTestSchema = z
+  .object({
+    permutations: z.number().int("the number of permutations is a whole number").min(100, "use at least 100 permutations").max(100_000, "use at most 100,000 permutations"),
+    seed: z.number().int("the seed is a whole number").min(1, "the seed is a positive whole number").max(2 ** 31 - 1, "the seed must be below 2^31").default(1),
+  })
+  .describe("Permutation test of the moderators (Higgins & Thompson 2004): N random orderings of the moderator values, seeded; runs in the background.");
+
+/** Nested grouping levels a multilevel analysis can use, outermost first: a site has one species, an estimate one site. */
+export const MULTILEVEL_LEVELS = ["species", "site", "estimate"] as const;
+export const ROBUST_CLUSTERS = ["species", "site"] as const;
+
 export const analysisSpecificationSchema = z
   .object({
     name: z.string().trim().min(1, "give the analysis a name").max(200, "name must be at most 200 characters"),
@@ -51,11 +62,36 @@ export const analysisSpecificationSchema = z
     moderators: z.array(moderatorKeySchema).max(10, "at most 10 moderators").default([]),
     subsets: analysisSubsetsSchema.default({}),
     confidenceLevel: z.number().gt(0.5, "confidence level must be above 0.5").lt(1, "confidence level must be below 1").default(0.95),
+    permutationTest: permutationTestSchema.optional(),
+    levels: z
+      .array(z.enum(MULTILEVEL_LEVELS))
+      .max(3)
+      .default([])
+      .describe("Nested random effects, outermost first (species, site, estimate): a multilevel model with one variance per level (REML or ML). Empty: a single-level model."),
+    robustCluster: z.enum(ROBUST_CLUSTERS).optional().describe("Cluster-robust (CR2) standard errors with the estimates clustered by site or by species."),
   })
   .superRefine((spec, ctx) => {
     if (spec.test === "hksj" && spec.model.type === "common_effect") {
       ctx.addIssue({ code: "custom", path: ["test"], message: "the Hartung-Knapp-Sidik-Jonkman test applies to random-effects models" });
     }
+    if (spec.permutationTest && spec.moderators.length === 0) {
+      ctx.addIssue({ code: "custom", path: ["permutationTest"], message: "a permutation test tests the moderators: choose at least one moderator" });
+    }
+    if (spec.levels.length > 0) {
+      const order = spec.levels.map((level) => MULTILEVEL_LEVELS.indexOf(level));
+      if (order.some((position, i) => i > 0 && position <= order[i - 1]!)) {
+        ctx.addIssue({ code: "custom", path: ["levels"], message: "list each level once, outermost first: species, site, estimate" });
+      }
+      if (spec.model.type !== "random_effects" || (spec.model.tau2Estimator !== "reml" && spec.model.tau2Estimator !== "ml")) {
+        ctx.addIssue({ code: "custom", path: ["levels"], message: "a multilevel model is a random-effects model fitted by REML or ML" });
+      }
+      if (spec.test !== "z") ctx.addIssue({ code: "custom", path: ["test"], message: "a multilevel model uses Wald z tests; for small-sample tests choose cluster-robust standard errors" });
+      if (spec.permutationTest) ctx.addIssue({ code: "custom", path: ["permutationTest"], message: "the permutation test applies to single-level models" });
+      if (spec.robustCluster === "site" && spec.levels[0] === "species") {
+        ctx.addIssue({ code: "custom", path: ["robustCluster"], message: "clusters by site would split the outermost level (species); cluster by species" });
+      }
+    }
+    if (spec.robustCluster && spec.permutationTest) ctx.addIssue({ code: "custom", path: ["robustCluster"], message: "choose either the permutation test or cluster-robust standard errors" });
     const seen = new Set<string>();
     spec.moderators.forEach((key, index) => {
       if (seen.has(key)) ctx.addIssue({ code: "custom", path: ["moderators", index], message: `moderator ${key} is listed twice` });

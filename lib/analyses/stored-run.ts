@@ -52,6 +52,33 @@ export const storedFitSchema = z.looseObject({
   prediction_interval: z.array(z.number()).length(2).nullable(),
   prediction_note: z.string().nullable(),
   r2: z.number().nullable(),
+  permutation_test: z
+    .object({
+      permutations: z.number(),
+      exact: z.boolean(),
+      seed: z.number().nullable(),
+      coefficient_p_values: z.record(z.string(), z.number()),
+      moderators_test_p_value: z.number(),
+      non_converged_fits: z.number(),
+      description: z.string(),
+    })
+    .nullable()
+    .optional(),
+  variance_components: z
+    .array(z.looseObject({ level: z.string(), sigma2: z.number(), ci_lower: z.number().nullable(), ci_upper: z.number().nullable(), i2: z.number(), groups: z.number(), ci_note: z.string().nullable(), lrt_p_value: z.number().nullable() }))
+    .nullable()
+    .optional(),
+  multilevel: z.looseObject({ total_i2: z.number(), estimation: z.string(), aic: z.number(), bic: z.number() }).nullable().optional(),
+  robust: z
+    .looseObject({
+      name: z.string(),
+      cluster: z.string(),
+      clusters: z.number(),
+      description: z.string(),
+      coefficients: z.array(z.object({ term: z.string(), estimate: z.number(), se: z.number(), df: z.number(), statistic: z.number(), p_value: z.number(), ci_lower: z.number(), ci_upper: z.number() })),
+    })
+    .nullable()
+    .optional(),
   fit: z.object({ converged: z.boolean(), iterations: z.number(), log_likelihood: z.number(), log_likelihood_kind: z.string() }),
   studies: z.array(z.object({ weight_percent: z.number(), fitted: z.number(), residual: z.number(), standardized_residual: z.number().nullable(), leverage: z.number() })),
   warnings: z.array(z.object({ code: z.string(), message: z.string() })),

@@ -1,5 +1,6 @@
 import { ZodError } from "zod";
 import { AppError, toAppError, type AppErrorJson } from "../errors/app-error";
+import { storageFailureOf } from "../errors/storage-failure";
 import { ModelInputError } from "../stats/model-error";
 import { zodFieldErrors } from "./zod-field-errors";
 
@@ -17,10 +18,12 @@ function isPrismaKnownError(error: unknown): error is PrismaKnownError {
 /**
  * Any thrown value as the application error the API reports. Zod failures are invalid_input with
  * one field error per issue; a model that cannot be fitted is cannot_compute; a unique-constraint
- * clash is conflict. Anything else is internal (HTTP 500) and is logged.
+ * clash is conflict; a full or read-only database is storage_unavailable (HTTP 503). Anything else
+ * is internal (HTTP 500) and is logged.
  */
 export function toApiError(error: unknown): AppError {
   if (error instanceof AppError) return error;
+  if (storageFailureOf(error)) return toAppError(error);
   if (error instanceof ZodError) return new AppError("invalid_input", "the request is not valid", zodFieldErrors(error.issues));
   if (error instanceof ModelInputError) return new AppError("cannot_compute", error.message);
   if (isPrismaKnownError(error)) {
@@ -37,6 +40,7 @@ export function toApiError(error: unknown): AppError {
 export function errorResponse(error: unknown): Response {
   const appError = toApiError(error);
   if (appError.code === "internal") console.error("PhenoPool API: internal error", error);
+  if (appError.code === "storage_unavailable") console.error("PhenoPool API: storage unavailable", error);
   const body: AppErrorJson = appError.toJSON();
   return Response.json(body, { status: appError.httpStatus });
 }

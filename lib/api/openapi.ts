@@ -110,6 +110,8 @@ function errorCodesOf(route: RouteDefinition): ErrorCode[] {
     codes.add("unauthenticated");
     codes.add("forbidden");
   }
+  if (route.body || route.multipart) codes.add("too_large");
+  if (route.method !== "GET") codes.add("storage_unavailable");
   codes.add("internal");
   return [...codes];
 }

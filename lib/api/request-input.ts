@@ -1,11 +1,70 @@
 import { z } from "zod";
+import { readEnv } from "../config/env";
 import { AppError } from "../errors/app-error";
 import { zodFieldErrors } from "./zod-field-errors";
 
-/** The largest JSON body the API reads (a brood-record submission of ~200 000 rows fits). */
-export const MAX_JSON_BODY_BYTES = 64 * 1024 * 1024;
-/** The largest form (file upload) the API reads; the upload's own limits are checked after. */
-export const MAX_FORM_BODY_BYTES = 512 * 1024 * 1024;
+/** Room for the multipart framing and the form's text fields beside the file itself. */
+const FORM_OVERHEAD_BYTES = 1024 * 1024;
+
+/**
+ * The largest bodies the API reads, from the environment: JSON bodies up to
+ * PHENOPOOL_MAX_JSON_BODY_BYTES; upload forms up to PHENOPOOL_MAX_UPLOAD_BYTES (the file's own
+ * limit, which the upload checks again with the file named) plus room for the other fields.
+ */
+export interface BodyLimits {
+  jsonBytes: number;
+  formBytes: number;
+  /** The variable that sets each limit, named in the refusal. */
+  jsonVariable: string;
+  formVariable: string;
+}
+
+export function bodyLimitsFromEnv(): BodyLimits {
+  const env = readEnv();
+  return {
+    jsonBytes: env.PHENOPOOL_MAX_JSON_BODY_BYTES,
+    formBytes: env.PHENOPOOL_MAX_UPLOAD_BYTES + FORM_OVERHEAD_BYTES,
+    jsonVariable: "PHENOPOOL_MAX_JSON_BODY_BYTES",
+    formVariable: "PHENOPOOL_MAX_UPLOAD_BYTES",
+  };
+}
+
+function describeBytes(bytes: number): string {
+  const mib = bytes / (1024 * 1024);
+  return mib >= 1 ? `${bytes} bytes (${Number.isInteger(mib) ? mib : mib.toFixed(1)} MiB)` : `${bytes} bytes`;
+}
+
+/**
+ * The body's bytes, refused with AppError too_large (HTTP 413) as soon as they exceed `limit`:
+ * from Content-Length before reading anything, or while streaming when it is absent or wrong.
+ */
+async function readBodyWithin(request: Request, limit: number, what: string, variable: string): Promise<Uint8Array<ArrayBuffer>> {
+  const refuse = (size: string) =>
+    new AppError("too_large", `the ${what} is ${size}; this server accepts at most ${describeBytes(limit)} (set by ${variable})`, [
+      { field: "(body)", message: `larger than ${limit} bytes` },
+    ]);
+  const declared = Number(request.headers.get("content-length") ?? Number.NaN);
+  if (declared > limit) throw refuse(`${declared} bytes`);
+  if (!request.body) return new Uint8Array(0);
+  const reader = request.body.getReader();
+  const chunks: Uint8Array[] = [];
+  let total = 0;
+  for (let next = await reader.read(); !next.done; next = await reader.read()) {
+    total += next.value.byteLength;
+    if (total > limit) {
+      await reader.cancel().catch(() => undefined);
+      throw refuse(`more than ${limit} bytes`);
+    }
+    chunks.push(next.value);
+  }
+  const body = new Uint8Array(total);
+  let at = 0;
+  for (const chunk of chunks) {
+    body.set(chunk, at);
+    at += chunk.byteLength;
+  }
+  return body;
+}
 
 function unwrap(schema: z.ZodType): z.ZodType {
   let current = schema;
@@ -50,20 +109,18 @@ export function parsePathParams<S extends z.ZodObject>(params: Record<string, st
 }
 
 /**
- * A JSON request body as text, refused when it is not JSON, empty or larger than MAX_JSON_BODY_BYTES.
+ * A JSON request body as text, refused when it is not JSON, empty (invalid_input) or larger than
+ * the JSON body limit (too_large, 413, naming the limit and PHENOPOOL_MAX_JSON_BODY_BYTES).
  * Returns the text (to hash) and the parsed value.
  */
-export async function readJsonBody(request: Request): Promise<{ text: string; value: unknown }> {
-  const declared = Number(request.headers.get("content-length") ?? "0");
-  if (declared > MAX_JSON_BODY_BYTES) throw new AppError("too_large", `the body is ${declared} bytes; the limit is ${MAX_JSON_BODY_BYTES}`);
+export async function readJsonBody(request: Request, limits: BodyLimits = bodyLimitsFromEnv()): Promise<{ text: string; value: unknown }> {
   const type = request.headers.get("content-type") ?? "";
   if (!/^application\/(.+\+)?json\b/i.test(type)) {
     throw new AppError("invalid_input", `send the body as JSON (Content-Type: application/json), not '${type || "no content type"}'`, [
       { field: "(body)", message: "expected Content-Type application/json" },
     ]);
   }
-  const text = await request.text();
-  if (text.length > MAX_JSON_BODY_BYTES) throw new AppError("too_large", `the body is larger than the limit of ${MAX_JSON_BODY_BYTES} bytes`);
+  const text = new TextDecoder().decode(await readBodyWithin(request, limits.jsonBytes, "JSON body", limits.jsonVariable));
   if (text.trim() === "") throw new AppError("invalid_input", "the request body is empty", [{ field: "(body)", message: "expected a JSON value" }]);
   try {
     return { text, value: JSON.parse(text) };
@@ -79,12 +136,14 @@ export function parseBody<S extends z.ZodType>(value: unknown, schema: S): z.out
   return parsed.data;
 }
 
-/** A multipart/form-data body; a malformed one is invalid_input, not a server error. */
-export async function readFormData(request: Request): Promise<FormData> {
-  const declared = Number(request.headers.get("content-length") ?? "0");
-  if (declared > MAX_FORM_BODY_BYTES) throw new AppError("too_large", `the upload is ${declared} bytes; the limit is ${MAX_FORM_BODY_BYTES}`);
+/**
+ * A multipart/form-data body; a malformed one is invalid_input, not a server error, and one larger
+ * than the upload limit plus room for the other fields is too_large (413, naming the limit).
+ */
+export async function readFormData(request: Request, limits: BodyLimits = bodyLimitsFromEnv()): Promise<FormData> {
+  const body = await readBodyWithin(request, limits.formBytes, "upload form", limits.formVariable);
   try {
-    return await request.formData();
+    return await new Response(body, { headers: { "content-type": request.headers.get("content-type") ?? "" } }).formData();
   } catch (error) {
     throw new AppError("invalid_input", "the form could not be read as multipart/form-data", [{ field: "(body)", message: (error as Error).message }]);
   }

@@ -41,12 +41,17 @@ export async function revokeApiToken(db: Db, actor: Actor, tokenId: number, now 
   });
 }
 
-/** The actor a bearer token stands for, or null for an unknown or revoked token. Records its last use. */
+/** lastUsedAt is written at most this often: a script's every request would otherwise be a write. */
+const LAST_USED_INTERVAL_MS = 60 * 1000;
+
+/** The actor a bearer token stands for, or null for an unknown or revoked token. Records its last use (to the minute). */
 export async function resolveApiToken(db: Db, secret: string, now = new Date()): Promise<Actor | null> {
   if (!secret.startsWith(API_TOKEN_PREFIX)) return null;
   const token = await db.apiToken.findUnique({ where: { tokenHash: hashSecret(secret) } });
   if (!token || token.revokedAt) return null;
-  await db.apiToken.update({ where: { id: token.id }, data: { lastUsedAt: now } });
+  if (!token.lastUsedAt || now.getTime() - token.lastUsedAt.getTime() >= LAST_USED_INTERVAL_MS) {
+    await db.apiToken.update({ where: { id: token.id }, data: { lastUsedAt: now } });
+  }
   return actorForUser(db, token.userId, "token");
 }
 

@@ -17,14 +17,22 @@ export type DbTransaction = Parameters<Parameters<Db["$transaction"]>[0]>[0];
 /** SQLite waits this long for another process's lock before giving up, so concurrent writers queue. */
 export const SQLITE_BUSY_TIMEOUT_MS = 15_000;
 
+/**
+ * How long a transaction may wait for its turn (SQLite: the write connection, which a large upload
+ * holds while its rows go in; PostgreSQL: a pooled connection) before it fails. Prisma's default of
+ * 2 s would turn a busy moment into errors; a write that must wait, waits. A call may ask otherwise.
+ */
+export const TRANSACTION_START_WAIT_MS = 120_000;
+
 export function createDb(url: string): Db {
+  const transactionOptions = { maxWait: TRANSACTION_START_WAIT_MS };
   if (providerOf(url) === "postgresql") {
-    return new PostgresClient({ adapter: new PrismaPg({ connectionString: url }) }) as unknown as Db;
+    return new PostgresClient({ adapter: new PrismaPg({ connectionString: url }), transactionOptions }) as unknown as Db;
   }
   const path = sqlitePath(url);
   if (path !== ":memory:") mkdirSync(dirname(path), { recursive: true });
   // One writing and one reading connection: see sqlite-connections.ts.
-  return new SqliteClient({ adapter: new SqliteConnections({ path, busyTimeoutMs: SQLITE_BUSY_TIMEOUT_MS }) });
+  return new SqliteClient({ adapter: new SqliteConnections({ path, busyTimeoutMs: SQLITE_BUSY_TIMEOUT_MS }), transactionOptions });
 }
 
 const cache = globalThis as unknown as { phenopoolDb?: { url: string; db: Db } };

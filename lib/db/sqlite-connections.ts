@@ -102,7 +102,11 @@ class SplitConnectionAdapter {
       release();
       throw error;
     }
-    // Prisma sends COMMIT or ROLLBACK through executeRaw, then calls commit() or rollback().
+    // Prisma sends COMMIT or ROLLBACK through executeRaw, then calls commit() or rollback(). When
+    // COMMIT itself fails (a full disk) it calls only rollback(), so rollback() makes sure the
+    // transaction is closed before the next holder gets the connection (a second ROLLBACK fails
+    // harmlessly with "no transaction is active").
+    const rollback = { sql: "ROLLBACK", args: [], argTypes: [] };
     return {
       provider: this.provider,
       adapterName: this.adapterName,
@@ -110,7 +114,10 @@ class SplitConnectionAdapter {
       queryRaw: (query) => writer.queryRaw(query),
       executeRaw: (query) => writer.executeRaw(query),
       commit: async () => release(),
-      rollback: async () => release(),
+      rollback: async () => {
+        await writer.executeRaw(rollback).catch(() => undefined);
+        release();
+      },
       createSavepoint: async (name) => void (await writer.executeRaw({ sql: `SAVEPOINT ${name}`, args: [], argTypes: [] })),
       rollbackToSavepoint: async (name) => void (await writer.executeRaw({ sql: `ROLLBACK TO ${name}`, args: [], argTypes: [] })),
       releaseSavepoint: async (name) => void (await writer.executeRaw({ sql: `RELEASE SAVEPOINT ${name}`, args: [], argTypes: [] })),

@@ -1,3 +1,5 @@
+import { STORAGE_FAILURE_MESSAGES, storageFailureOf } from "./storage-failure";
+
 /**
  * The one application error. The API, the pages and the CLI report it the same way:
  * `code` picks the HTTP status and the CLI exit code, `message` says what is wrong in plain words,
@@ -12,6 +14,7 @@ export const ERROR_CODES = [
   "too_large",
   "too_many_requests",
   "cannot_compute",
+  "storage_unavailable",
   "internal",
 ] as const;
 export type ErrorCode = (typeof ERROR_CODES)[number];
@@ -25,6 +28,8 @@ export const HTTP_STATUS: Record<ErrorCode, number> = {
   too_large: 413,
   too_many_requests: 429,
   cannot_compute: 422,
+  /** The database's disk is full or the database is read-only (see storage-failure.ts). */
+  storage_unavailable: 503,
   internal: 500,
 };
 
@@ -62,9 +67,14 @@ export class AppError extends Error {
   }
 }
 
-/** Any thrown value as an AppError; unknown failures become `internal` with their message kept. */
+/**
+ * Any thrown value as an AppError: a full or read-only database becomes `storage_unavailable`
+ * with what to do about it; other unknown failures become `internal` with their message kept.
+ */
 export function toAppError(error: unknown): AppError {
   if (error instanceof AppError) return error;
+  const storage = storageFailureOf(error);
+  if (storage) return new AppError("storage_unavailable", STORAGE_FAILURE_MESSAGES[storage]);
   const message = error instanceof Error ? error.message : String(error);
   return new AppError("internal", message);
 }

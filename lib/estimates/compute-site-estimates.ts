@@ -18,8 +18,8 @@ import { warning, type StatWarning } from "../stats/warnings";
 import { BROOD_OUTCOMES, type BroodOutcome } from "./brood-outcomes";
 import type { BroodForEstimates, ComputedEstimate, RefusedEstimate } from "./estimate-types";
 import { fitMismatchGlm, type DesignCache, type MismatchModelData } from "./fit-mismatch-glm";
-import { broodMismatch, describeMismatch, DEFAULT_MISMATCH_OFFSET_DAYS, DEFAULT_NESTLING_AGE_AT_PEAK_DEMAND_DAYS, type MismatchBasis } from "./mismatch";
-import { centreWithinGroups } from "./within-year-centring";
+import { centredMismatch } from "./centred-mismatch";
+import { describeMismatch, DEFAULT_MISMATCH_OFFSET_DAYS, DEFAULT_NESTLING_AGE_AT_PEAK_DEMAND_DAYS, type MismatchBasis } from "./mismatch";
 
 export interface SiteEstimateOptions {
   /** Mismatch from the lay date (default) or from the hatch date. */
@@ -48,6 +48,9 @@ export interface SiteEstimates {
   readonly offsetDays: number;
   readonly basis: MismatchBasis;
 }
+
+/** Fewest broods of a year for its own single-year estimates (common practice: fewer give unstable fits). */
+export const DEFAULT_MINIMUM_BROODS_PER_YEAR = 20;
 
 const CENTRING = "within-year mismatch c = mismatch - the site-year's mean mismatch over all its broods; annual mean mismatch = that mean (within-subject centring, van de Pol & Wright 2009)";
 const DATES = "dates as day of year (1 = 1 January)";
@@ -86,35 +89,20 @@ export function computeSiteEstimates(
 ): SiteEstimates {
   const basis = options.basis ?? "lay_date";
   const offsetDays = basis === "lay_date" ? (options.offsetDays ?? DEFAULT_MISMATCH_OFFSET_DAYS) : (options.nestlingAgeDays ?? DEFAULT_NESTLING_AGE_AT_PEAK_DEMAND_DAYS);
-  const minimumBroods = options.minimumBroodsPerYear ?? 20;
+  const minimumBroods = options.minimumBroodsPerYear ?? DEFAULT_MINIMUM_BROODS_PER_YEAR;
   if (!Number.isFinite(offsetDays)) throw new ModelInputError(`the mismatch offset must be a finite number of days, got ${offsetDays}`);
   if (broods.length === 0) throw new ModelInputError("the site has no brood records");
   const definition = { basis, offsetDays };
   const siteWarnings: StatWarning[] = [];
 
-  const usable: BroodForEstimates[] = [];
-  const noPeak = new Set<number>();
-  let noHatch = 0;
-  for (const brood of broods) {
-    if (!foodPeaks.has(brood.year)) noPeak.add(brood.year);
-    else if (basis === "hatch_date" && brood.hatchDateDoy === null) noHatch += 1;
-    else usable.push(brood);
+  const { usable, yearOf, centred, yearsUsed, yearsWithoutFoodPeak, broodsWithoutHatchDate } = centredMismatch(broods, foodPeaks, definition);
+  if (yearsWithoutFoodPeak.length) {
+    siteWarnings.push(warning("data_dropped", `no food-peak date for ${yearsWithoutFoodPeak.join(", ")}: those broods are left out of the mismatch estimates`));
   }
-  if (noPeak.size) {
-    siteWarnings.push(warning("data_dropped", `no food-peak date for ${[...noPeak].sort((a, b) => a - b).join(", ")}: those broods are left out of the mismatch estimates`));
-  }
-  if (noHatch) siteWarnings.push(warning("data_dropped", `${noHatch} broods without a hatch date are left out of the hatch-date mismatch estimates`));
+  if (broodsWithoutHatchDate) siteWarnings.push(warning("data_dropped", `${broodsWithoutHatchDate} broods without a hatch date are left out of the hatch-date mismatch estimates`));
 
   const estimates: ComputedEstimate[] = [];
   const refused: RefusedEstimate[] = [];
-  const mismatch = new Float64Array(usable.length);
-  const yearOf = new Int32Array(usable.length);
-  for (let i = 0; i < usable.length; i += 1) {
-    mismatch[i] = broodMismatch(definition, usable[i]!, foodPeaks.get(usable[i]!.year)!);
-    yearOf[i] = usable[i]!.year;
-  }
-  const centred = centreWithinGroups(mismatch, yearOf);
-  const yearsUsed = [...centred.groupMeans.keys()].sort((a, b) => a - b);
   const definitions = `Definitions: ${describeMismatch(definition)}; ${CENTRING}; ${DATES}.`;
 
   // Each usable brood's position among the sorted years, for grouping without per-brood maps.

@@ -7,8 +7,10 @@ import { SQLITE_BUSY_TIMEOUT_MS } from "../db/client";
 
 /**
  * Consistent snapshots of a running network, and their restore.
- * SQLite: the online backup API copies a consistent image page by page while other connections
- * keep reading and writing. PostgreSQL: pg_dump reads one snapshot (a repeatable-read
+ * SQLite: VACUUM INTO writes the database as one read transaction sees it (in WAL mode that
+ * snapshot holds while the server goes on writing, and no writer waits for it). The online backup
+ * API is not used for this: it starts again whenever another connection writes, so under a steady
+ * stream of writes it never finishes. PostgreSQL: pg_dump reads one snapshot (a repeatable-read
  * transaction) in its custom format; pg_restore brings it back in a single transaction.
  */
 
@@ -38,7 +40,7 @@ export async function backupDatabase(url: string, file: string): Promise<BackupR
     if (!existsSync(source)) throw new Error(`no SQLite database at ${source}`);
     const db = new Database(source, { readonly: true, timeout: SQLITE_BUSY_TIMEOUT_MS });
     try {
-      await db.backup(partial);
+      db.prepare("VACUUM INTO ?").run(partial);
     } finally {
       db.close();
     }

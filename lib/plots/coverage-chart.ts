@@ -1,5 +1,6 @@
 import { element, fitLabel, svgDocument, text } from "./svg";
 import { GROUP_COLOURS, INK, INK_SOFT, OKABE_ITO, RULE } from "./palette";
+import { groupLegend, legendHeight } from "./group-legend";
 
 /**
  * Coverage chart: one row per site, one column per year, a filled cell for each year with brood
@@ -32,6 +33,8 @@ const ROW_HEIGHT = 16;
 const LABEL_WIDTH = 64;
 const MAX_PLOT_WIDTH = 720;
 const MARGIN = { left: 10, right: 20, top: 64, bottom: 40 };
+/** Space between the last legend row and the year labels above the chart. */
+const LEGEND_GAP = 6;
 const MIN_SHADE = 0.3;
 
 /** Builds the chart as a standalone SVG document. Throws on a year or count that is not a whole number >= 0. */
@@ -50,12 +53,14 @@ export function coverageChartSvg(input: CoverageChartInput): string {
   const cellWidth = Math.max(4, Math.min(16, MAX_PLOT_WIDTH / yearCount));
   const plotLeft = MARGIN.left + LABEL_WIDTH;
   const plotWidth = cellWidth * yearCount;
-  const width = plotLeft + plotWidth + MARGIN.right;
-  const plotBottom = MARGIN.top + Math.max(1, input.rows.length) * ROW_HEIGHT;
-  const height = plotBottom + MARGIN.bottom;
-  const x = (year: number) => plotLeft + (year - first) * cellWidth;
+  const width = Math.max(plotLeft + plotWidth + MARGIN.right, 520);
   const groups = [...new Set(input.rows.map((r) => r.group).filter((g): g is string => g !== undefined))];
   const colourOf = (group?: string) => (group === undefined ? OKABE_ITO.blue : GROUP_COLOURS[groups.indexOf(group) % GROUP_COLOURS.length]!);
+  const legend = groupLegend(groups, colourOf, MARGIN.left, 58, width - MARGIN.left - 10);
+  const top = MARGIN.top + (legend.rows ? legendHeight(legend.rows) + LEGEND_GAP : 0);
+  const plotBottom = top + Math.max(1, input.rows.length) * ROW_HEIGHT;
+  const height = plotBottom + MARGIN.bottom;
+  const x = (year: number) => plotLeft + (year - first) * cellWidth;
   const recordCounts = input.rows.flatMap((r) => r.cells.filter((c) => c.kind === "records").map((c) => c.count));
   const maxCount = Math.max(1, ...recordCounts);
 
@@ -69,16 +74,17 @@ export function coverageChartSvg(input: CoverageChartInput): string {
     element("line", { x1: MARGIN.left + 410, x2: MARGIN.left + 430, y1: 35, y2: 35, stroke: INK_SOFT }),
     text("study years", { x: MARGIN.left + 434, y: 39, "font-size": 11, fill: INK_SOFT }),
   ]));
+  body.push(...legend.parts);
   const tickStep = yearCount > 30 ? 10 : 5;
   for (let year = Math.ceil(first / tickStep) * tickStep; year <= last; year += tickStep) {
     const centre = x(year) + cellWidth / 2;
-    body.push(element("line", { x1: centre, x2: centre, y1: MARGIN.top, y2: plotBottom, stroke: RULE, "stroke-width": 0.5 }));
-    body.push(text(String(year), { x: centre, y: MARGIN.top - 4, "text-anchor": "middle", "font-size": 11, fill: INK }));
+    body.push(element("line", { x1: centre, x2: centre, y1: top, y2: plotBottom, stroke: RULE, "stroke-width": 0.5 }));
+    body.push(text(String(year), { x: centre, y: top - 4, "text-anchor": "middle", "font-size": 11, fill: INK }));
     body.push(text(String(year), { x: centre, y: plotBottom + 14, "text-anchor": "middle", "font-size": 11, fill: INK }));
   }
   input.rows.forEach((row, index) => {
-    const top = MARGIN.top + index * ROW_HEIGHT;
-    const middle = top + ROW_HEIGHT / 2;
+    const rowTop = top + index * ROW_HEIGHT;
+    const middle = rowTop + ROW_HEIGHT / 2;
     const colour = colourOf(row.group);
     const parts: string[] = [
       element("title", {}, `${row.label}: ${row.cells.filter((c) => c.kind === "records").length} years with brood records, ${row.cells.filter((c) => c.kind === "estimates").length} with own estimates only` + (row.span ? `; study years ${row.span.first}-${row.span.last}` : "")),
@@ -88,8 +94,8 @@ export function coverageChartSvg(input: CoverageChartInput): string {
     for (const cell of row.cells) {
       const tooltip = element("title", {}, cell.kind === "records" ? `${row.label} ${cell.year}: ${cell.count} broods` : `${row.label} ${cell.year}: ${cell.count} own estimates, no brood records`);
       parts.push(cell.kind === "records"
-        ? element("rect", { x: x(cell.year) + 0.5, y: top + 2, width: cellWidth - 1, height: ROW_HEIGHT - 4, fill: colour, "fill-opacity": MIN_SHADE + (1 - MIN_SHADE) * (cell.count / maxCount), class: "coverage-cell" }, tooltip)
-        : element("rect", { x: x(cell.year) + 1, y: top + 3, width: cellWidth - 2, height: ROW_HEIGHT - 6, fill: "#ffffff", stroke: colour, "stroke-width": 1.5, class: "coverage-estimates" }, tooltip));
+        ? element("rect", { x: x(cell.year) + 0.5, y: rowTop + 2, width: cellWidth - 1, height: ROW_HEIGHT - 4, fill: colour, "fill-opacity": MIN_SHADE + (1 - MIN_SHADE) * (cell.count / maxCount), class: "coverage-cell" }, tooltip)
+        : element("rect", { x: x(cell.year) + 1, y: rowTop + 3, width: cellWidth - 2, height: ROW_HEIGHT - 6, fill: "#ffffff", stroke: colour, "stroke-width": 1.5, class: "coverage-estimates" }, tooltip));
     }
     body.push(element("g", { class: "coverage-row", "data-label": row.label }, parts));
   });

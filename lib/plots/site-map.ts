@@ -1,5 +1,6 @@
 import { element, svgDocument, text } from "./svg";
 import { GROUP_COLOURS, INK, INK_SOFT, OKABE_ITO, RULE } from "./palette";
+import { groupLegend, legendHeight } from "./group-legend";
 
 /**
  * Map of the network's sites in the equirectangular (equidistant cylindrical) projection,
@@ -30,7 +31,7 @@ export interface SiteMapInput {
 
 const MAX_PLOT_WIDTH = 600;
 const MAX_PLOT_HEIGHT = 460;
-const MARGIN = { left: 58, right: 60, top: 56, bottom: 40 };
+const MARGIN = { left: 58, right: 60, top: 40, bottom: 40 };
 const MAX_STANDARD_PARALLEL = 60;
 
 /** "45° N", "10° W", "0°". */
@@ -87,16 +88,19 @@ export function siteMapSvg(input: SiteMapInput): string {
   const plotWidth = degreesWide * pxPerDegree;
   const plotHeight = degreesHigh * pxPerDegree;
   const width = MARGIN.left + plotWidth + MARGIN.right;
-  const height = MARGIN.top + plotHeight + MARGIN.bottom;
-  const x = (longitude: number) => MARGIN.left + (longitude - extent.west) * cosParallel * pxPerDegree;
-  const y = (latitude: number) => MARGIN.top + (extent.north - latitude) * pxPerDegree;
   const groups = [...new Set(input.sites.map((s) => s.group).filter((g): g is string => g !== undefined))];
   const colourOf = (group?: string) => (group === undefined ? OKABE_ITO.blue : GROUP_COLOURS[groups.indexOf(group) % GROUP_COLOURS.length]!);
+  const legend = groupLegend(groups, colourOf, MARGIN.left, 38, width - MARGIN.left - 10);
+  const top = MARGIN.top + legendHeight(legend.rows);
+  const height = top + plotHeight + MARGIN.bottom;
+  const x = (longitude: number) => MARGIN.left + (longitude - extent.west) * cosParallel * pxPerDegree;
+  const y = (latitude: number) => top + (extent.north - latitude) * pxPerDegree;
 
   const body: string[] = [text(input.title, { x: MARGIN.left, y: 20, "font-size": 14, "font-weight": 700, fill: INK })];
-  body.push(element("rect", { x: MARGIN.left, y: MARGIN.top, width: plotWidth, height: plotHeight, fill: "#f7f5ee", stroke: INK, class: "map-frame" }));
+  body.push(...legend.parts);
+  body.push(element("rect", { x: MARGIN.left, y: top, width: plotWidth, height: plotHeight, fill: "#f7f5ee", stroke: INK, class: "map-frame" }));
   const graticule: string[] = [];
-  const bottom = MARGIN.top + plotHeight;
+  const bottom = top + plotHeight;
   const right = MARGIN.left + plotWidth;
   for (let lat = extent.south; lat <= extent.north + 1e-9; lat += extent.step) {
     const emphasis = lat === 0;
@@ -105,7 +109,7 @@ export function siteMapSvg(input: SiteMapInput): string {
   }
   for (let lon = extent.west; lon <= extent.east + 1e-9; lon += extent.step) {
     const emphasis = lon === 0;
-    graticule.push(element("line", { x1: x(lon), x2: x(lon), y1: MARGIN.top, y2: bottom, stroke: emphasis ? INK_SOFT : RULE, "stroke-width": emphasis ? 1 : 0.6 }));
+    graticule.push(element("line", { x1: x(lon), x2: x(lon), y1: top, y2: bottom, stroke: emphasis ? INK_SOFT : RULE, "stroke-width": emphasis ? 1 : 0.6 }));
     graticule.push(text(degreeLabel(lon, "longitude"), { x: x(lon), y: bottom + 16, "text-anchor": "middle", "font-size": 11, fill: INK }));
   }
   body.push(element("g", { class: "map-graticule" }, graticule));
@@ -120,12 +124,6 @@ export function siteMapSvg(input: SiteMapInput): string {
   body.push(text(`Equirectangular, standard parallel ${coordinate(parallel, "latitude")}; graticule every ${extent.step}°; no coastlines drawn`, {
     x: MARGIN.left, y: height - 8, "font-size": 10, fill: INK_SOFT,
   }));
-  let legendX = MARGIN.left;
-  for (const group of groups) {
-    body.push(element("circle", { cx: legendX + 5, cy: 34, r: 5, fill: colourOf(group) }));
-    body.push(text(group, { x: legendX + 14, y: 38, "font-size": 11, "font-style": "italic", fill: INK }));
-    legendX += 28 + group.length * 6;
-  }
   const description = input.sites.length
     ? `${input.sites.length} sites between ${coordinate(Math.min(...input.sites.map((s) => s.latitude)), "latitude")} and ${coordinate(Math.max(...input.sites.map((s) => s.latitude)), "latitude")}, ` +
       `${coordinate(Math.min(...input.sites.map((s) => s.longitude)), "longitude")} to ${coordinate(Math.max(...input.sites.map((s) => s.longitude)), "longitude")}` +

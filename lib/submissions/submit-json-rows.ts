@@ -9,6 +9,8 @@ import { wakeServerJobRunner } from "../jobs/server-job-runner";
 import { siteCodeSchema } from "../network/site-input";
 import { writeSubmission } from "./write-submission";
 import { getSubmission, type SubmissionSummary } from "./list-submissions";
+import { uploadLimitsFromEnv } from "./upload-request";
+import { AppError } from "../errors/app-error";
 
 /** The most rows one JSON submission may carry. */
 export const MAX_JSON_ROWS = 500_000;
@@ -43,9 +45,16 @@ export interface SubmissionWriteReply {
  * as for an uploaded file, the queued recomputation of the site's estimates when it brings brood
  * records (or covariates of a site with brood records). Its SHA-256 is taken over the rows as
  * compact JSON, so sending the same rows again is recognised as unchanged.
- * Throws AppError invalid_input listing every bad row, not_found for an unknown site.
+ * Throws AppError invalid_input listing every bad row, not_found for an unknown site, too_large
+ * for more rows than PHENOPOOL_MAX_UPLOAD_ROWS.
  */
 export async function submitJsonRows(db: Db, input: JsonSubmission, actor: Actor): Promise<SubmissionWriteReply> {
+  const { maxRows } = uploadLimitsFromEnv();
+  if (input.rows.length > maxRows) {
+    throw new AppError("too_large", `${input.fileName} has ${input.rows.length} rows; this server accepts at most ${maxRows} rows in one submission (set by PHENOPOOL_MAX_UPLOAD_ROWS); nothing was written`, [
+      { field: "rows", message: `more than ${maxRows} rows`, file: input.fileName },
+    ]);
+  }
   const sha256 = createHash("sha256").update(JSON.stringify(input.rows)).digest("hex");
   let recomputeJobId: number | null = null;
   const written = await writeSubmission(db, {

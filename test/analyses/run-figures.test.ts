@@ -9,14 +9,14 @@ import reference from "@/test/fixtures/r-stats/meta-reference.json";
 import datasets from "@/test/fixtures/r-stats/meta-datasets.json";
 import { fitMetaModel } from "@/lib/stats/meta/fit-meta-model";
 import { metaResultToJson } from "@/lib/stats/meta/result-json";
-import { bubbleFigures, fittedBand, forestFigure, funnelFigure } from "@/lib/analyses/run-figures";
+import { bubbleFigures, fittedBand, forestFigure, funnelFigure, residualFunnelFigure } from "@/lib/analyses/run-figures";
 import { parseStoredRun, type StoredRun } from "@/lib/analyses/stored-run";
 import { normalQuantileStd } from "@/lib/stats/distributions/normal";
 import { expectClose } from "@/test/helpers/expect-close";
 import { referenceDataset } from "../stats/meta/reference-datasets";
 
 const bcg = (datasets as unknown as { datasets: Record<string, { y: number[]; v: number[]; moderators: { name: string; values: number[] }[] }> }).datasets.bcg!;
-const rModerated = (reference as unknown as { reference: { bcg: { moderated: { predict_at: number[]; methods: { reml: { prediction_mean: number; prediction_se: number } } } } } }).reference.bcg.moderated;
+const rModerated = (reference as unknown as { reference: { bcg: { moderated: { predict_at: number[]; methods: { reml: { prediction_mean: number; prediction_se: number; beta: number[] } } } } } }).reference.bcg.moderated;
 
 function storedRun(withModerator: boolean): StoredRun {
   const { data, moderators } = referenceDataset("bcg");
@@ -84,6 +84,16 @@ describe("figures of an analysis run", () => {
     expect(forestFigure(run).input.pooled).toBeNull();
     expect(funnelFigure(run)).toBeNull();
     expect(funnelFigure(storedRun(false))!.input.points).toHaveLength(13);
+  });
+
+  it("residual funnel of a meta-regression: estimate minus R's REML fitted value at the study's latitude (1e-6)", () => {
+    const run = storedRun(true);
+    const figure = residualFunnelFigure(run)!;
+    const [b0, b1] = rModerated.methods.reml.beta;
+    const latitude = bcg.moderators.find((m) => m.name === "ablat")!.values;
+    figure.input.points.forEach((p, i) => expectClose(p.estimate, bcg.y[i]! - (b0! + b1! * latitude[i]!), { rtol: 1e-6, atol: 1e-8, label: `residual ${i + 1} (R)` }));
+    expect(figure.input.pooledEstimate).toBe(0);
+    expect(residualFunnelFigure(storedRun(false))).toBeNull();
   });
 
   it("refuses a stored run of the wrong shape, naming the path", () => {

@@ -104,6 +104,12 @@ describe.each(providers)("sessions, sign-in and API tokens on %s", (provider) =>
     const viaToken = await resolveApiToken(db, token.secret, t0);
     expect(viaToken).toMatchObject({ userId: leadId, role: "site_lead", siteIds: [siteId], via: "token" });
     expect((await db.apiToken.findUniqueOrThrow({ where: { id: token.id } })).lastUsedAt).toEqual(t0);
+    // The last use is recorded to the minute, so a busy script's requests are not all writes.
+    await resolveApiToken(db, token.secret, new Date(t0.getTime() + 30_000));
+    expect((await db.apiToken.findUniqueOrThrow({ where: { id: token.id } })).lastUsedAt).toEqual(t0);
+    const later = new Date(t0.getTime() + 61_000);
+    await resolveApiToken(db, token.secret, later);
+    expect((await db.apiToken.findUniqueOrThrow({ where: { id: token.id } })).lastUsedAt).toEqual(later);
     await revokeApiToken(db, actor, token.id, t0);
     expect(await resolveApiToken(db, token.secret, t0)).toBeNull();
     expect(await resolveApiToken(db, "ppt_not-a-token", t0)).toBeNull();

@@ -6,9 +6,10 @@ import { runDemoNetworkBenchmark } from "./demo-network.bench";
 import { runEstimatesBenchmark } from "./estimates.bench";
 import { runMultilevelBenchmark } from "./multilevel.bench";
 import { runPoolBenchmark } from "./pool.bench";
+import { runResultsPageBenchmark } from "./results-page.bench";
 import { runSensitivityBenchmark } from "./sensitivity.bench";
 import { runUploadBenchmark } from "./upload.bench";
 
-const BENCHMARKS: Array<() => Promise<void>> = [runDemoNetworkBenchmark, runEstimatesBenchmark, runPoolBenchmark, runMultilevelBenchmark, runSensitivityBenchmark, runUploadBenchmark];
+const BENCHMARKS: Array<() => Promise<void>> = [runDemoNetworkBenchmark, runEstimatesBenchmark, runPoolBenchmark, runMultilevelBenchmark, runSensitivityBenchmark, runUploadBenchmark, runResultsPageBenchmark];
 
 for (const benchmark of BENCHMARKS) await benchmark();

@@ -26,7 +26,7 @@ export interface RunningApp {
   stop: () => Promise<void>;
 }
 
-async function freePort(): Promise<number> {
+export async function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const server = createServer();
     server.listen(0, "127.0.0.1", () => {
@@ -60,10 +60,55 @@ function runToEnd(command: string, args: string[], env: NodeJS.ProcessEnv): Prom
   });
 }
 
+export interface RunningServer {
+  baseUrl: string;
+  /** The server process (its pid is what a crash test kills). */
+  child: ChildProcess;
+  /** Everything the server printed so far. */
+  output: () => string;
+  /** Sends `signal` to the server and its job process and resolves once the server has exited. */
+  kill: (signal: NodeJS.Signals) => Promise<void>;
+}
+
 /**
- * Starts `next start` (the build in .next must exist: run `next build` first) on a fresh
- * database, optionally seeded with the demo network.
+ * Starts `next start` (the build in .next must exist: run `next build` first) on loopback against
+ * `databaseUrl`, with `env` added to the environment, and resolves once it answers.
  */
+export async function startServer(options: { databaseUrl: string; env?: NodeJS.ProcessEnv }): Promise<RunningServer> {
+  if (!existsSync(join(process.cwd(), ".next", "BUILD_ID"))) throw new Error("no production build: run `npx next build` before the end-to-end tests");
+  const env: NodeJS.ProcessEnv = { ...process.env, ...options.env, DATABASE_URL: options.databaseUrl, NODE_ENV: "production" as const };
+  const port = await freePort();
+  // Its own process group, so a kill reaches the server and the job process it started at once.
+  const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "--hostname", "127.0.0.1", "--port", String(port)], { env, stdio: ["ignore", "pipe", "pipe"], detached: true });
+  let output = "";
+  child.stdout?.on("data", (c: Buffer) => (output += c.toString()));
+  child.stderr?.on("data", (c: Buffer) => (output += c.toString()));
+  const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
+  const signalGroup = (signal: NodeJS.Signals) => {
+    try {
+      process.kill(-child.pid!, signal);
+    } catch {
+      // the group has already gone
+    }
+  };
+  const onExit = () => signalGroup("SIGKILL");
+  process.once("exit", onExit);
+  const kill = async (signal: NodeJS.Signals) => {
+    signalGroup(signal);
+    await exited;
+    process.off("exit", onExit);
+  };
+  const baseUrl = `http://127.0.0.1:${port}`;
+  try {
+    await waitForHttp(`${baseUrl}/sign-in`, child, 60_000);
+  } catch (error) {
+    await kill("SIGKILL");
+    throw new Error(`${(error as Error).message}\n${output}`);
+  }
+  return { baseUrl, child, output: () => output, kill };
+}
+
+/** Starts the production build (see startServer) on a fresh database, optionally seeded with the demo network. */
 export async function startApp(options: { seedDemo: boolean }): Promise<RunningApp> {
   if (!existsSync(join(process.cwd(), ".next", "BUILD_ID"))) throw new Error("no production build: run `npx next build` before the end-to-end tests");
   const dir = mkdtempSync(join(tmpdir(), "phenopool-e2e-"));
@@ -74,28 +119,14 @@ export async function startApp(options: { seedDemo: boolean }): Promise<RunningA
   if (options.seedDemo) {
     await runToEnd(process.execPath, ["--import", "tsx", "seed/index.ts", "--accounts-file", accountsFile, "--truth", join(dir, "demo-truth.json")], env);
   }
-  const port = await freePort();
-  const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "--hostname", "127.0.0.1", "--port", String(port)], { env, stdio: ["ignore", "pipe", "pipe"] });
-  let output = "";
-  child.stdout?.on("data", (c: Buffer) => (output += c.toString()));
-  child.stderr?.on("data", (c: Buffer) => (output += c.toString()));
-  const baseUrl = `http://127.0.0.1:${port}`;
-  try {
-    await waitForHttp(`${baseUrl}/sign-in`, child, 60_000);
-  } catch (error) {
-    child.kill("SIGKILL");
-    throw new Error(`${(error as Error).message}\n${output}`);
-  }
+  const server = await startServer({ databaseUrl });
   const accounts: DemoAccount[] = options.seedDemo ? (JSON.parse(readFileSync(accountsFile, "utf8")) as { accounts: DemoAccount[] }).accounts : [];
   return {
-    baseUrl,
+    baseUrl: server.baseUrl,
     databaseUrl,
     accounts,
     stop: async () => {
-      if (child.exitCode === null) {
-        child.kill("SIGTERM");
-        await new Promise((r) => child.once("close", r));
-      }
+      await server.kill("SIGTERM");
       rmSync(dir, { recursive: true, force: true });
     },
   };

@@ -5,16 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser } from "playwright-core";
 import { createDb, type Db } from "@/lib/db/client";
 import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
-
-async function waitFor<T>(what: string, probe: () => Promise<T | null>, timeoutMs = 90_000): Promise<T> {
-  const deadline = Date.now() + timeoutMs;
-  for (;;) {
-    const value = await probe();
-    if (value !== null) return value;
-    if (Date.now() > deadline) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 500));
-  }
-}
+import { waitFor } from "./wait-for";
 
 describe("a site lead uploads brood records", () => {
   let app: RunningApp;

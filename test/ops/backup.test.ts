@@ -1,25 +1,16 @@
+import { spawn } from "node:child_process";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { backupDatabase, restoreDatabase } from "@/lib/ops/backup";
 import { createDb, type Db } from "@/lib/db/client";
+import { databaseProblems, tableSnapshot } from "@/test/helpers/database-consistency";
 import { createTestDatabase, testProviders } from "@/test/helpers/test-databases";
 
 const providers = await testProviders();
 const scratch = mkdtempSync(join(tmpdir(), "phenopool-backup-"));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
-
-/** Every row of every table, ids and timestamps included, in a stable order. */
-async function dumpAllTables(db: Db, provider: string): Promise<Record<string, unknown[]>> {
-  const tables =
-    provider === "sqlite"
-      ? ((await db.$queryRawUnsafe(`SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%' ORDER BY name`)) as { name: string }[])
-      : ((await db.$queryRawUnsafe(`SELECT tablename AS name FROM pg_tables WHERE schemaname = 'public' ORDER BY tablename`)) as { name: string }[]);
-  const out: Record<string, unknown[]> = {};
-  for (const { name } of tables) out[name] = (await db.$queryRawUnsafe(`SELECT * FROM "${name}" ORDER BY 1`)) as unknown[];
-  return out;
-}
 
 async function populate(db: Db): Promise<void> {
   const user = await db.user.create({ data: { email: "a@example.org", displayName: "A", role: "coordinator" } });
@@ -47,15 +38,63 @@ describe.each(providers)("backup and restore on %s", (provider) => {
       await restoreDatabase(target.url, file);
       const restored = createDb(target.url);
       try {
-        const expected = await dumpAllTables(source.db, provider);
+        const expected = await tableSnapshot(source.db, provider);
         (expected.Species as unknown[]).pop();
-        expect(await dumpAllTables(restored, provider)).toEqual(expected);
+        expect(await tableSnapshot(restored, provider)).toEqual(expected);
         expect(await restored.species.count()).toBe(1);
         expect(await restored.broodRecord.count()).toBe(30);
       } finally {
         await restored.$disconnect();
       }
     } finally {
+      await source.drop();
+      await target.drop();
+    }
+  });
+
+  it("takes a consistent snapshot while another process keeps writing submissions, and restores it whole", async () => {
+    const source = await createTestDatabase(provider);
+    const target = await createTestDatabase(provider);
+    const writer = spawn(process.execPath, ["--import", "tsx", "test/helpers/submission-writer-process.ts", source.url, "BKP"], { stdio: ["pipe", "pipe", "inherit"] });
+    try {
+      await populate(source.db);
+      // A few thousand more rows, so copying the file takes many steps while the writer goes on.
+      const site = await source.db.site.findUniqueOrThrow({ where: { code: "BKP" } });
+      const bulk = await source.db.submission.create({ data: { siteId: site.id, kind: "brood_records", fileName: "bulk.csv", sha256: "e".repeat(64), rowCount: 20_000, status: "superseded" } });
+      await source.db.broodRecord.createMany({
+        data: Array.from({ length: 20_000 }, (_, i) => ({ siteId: site.id, year: 2001, femaleId: `B${i}`, layDateDoy: 110, clutchSize: 9, fledglings: 5, recruits: 1, submissionId: bulk.id })),
+      });
+      let written = 0;
+      const progress: Array<() => void> = [];
+      writer.stdout!.on("data", (chunk: Buffer) => {
+        written += (chunk.toString().match(/wrote/g) ?? []).length;
+        progress.splice(0).forEach((wake) => wake());
+      });
+      const writtenAtLeast = async (n: number) => {
+        while (written < n) await new Promise<void>((resolve) => progress.push(resolve));
+      };
+      await writtenAtLeast(3);
+      const file = join(scratch, `under-writes-${provider}.bin`);
+      const before = written;
+      await backupDatabase(source.url, file);
+      await writtenAtLeast(before + 3);
+      writer.stdin!.end();
+      await new Promise((resolve) => writer.once("close", resolve));
+      await target.db.$disconnect();
+      await restoreDatabase(target.url, file);
+      const restored = createDb(target.url);
+      try {
+        // Every submission in the snapshot holds all its rows: no write was caught half-way.
+        expect(await databaseProblems(restored, provider)).toEqual([]);
+        const inSnapshot = await restored.submission.count({ where: { fileName: { startsWith: "writer-" } } });
+        expect(inSnapshot).toBeGreaterThanOrEqual(before - 1);
+        expect(inSnapshot).toBeLessThan(await source.db.submission.count({ where: { fileName: { startsWith: "writer-" } } }));
+        expect(await restored.broodRecord.count({ where: { submission: { fileName: { startsWith: "writer-" } } } })).toBe(inSnapshot * 200);
+      } finally {
+        await restored.$disconnect();
+      }
+    } finally {
+      if (writer.exitCode === null) writer.kill("SIGKILL");
       await source.drop();
       await target.drop();
     }

@@ -40,6 +40,7 @@ function specificationFromForm(form: FormData): unknown {
       ...(number(form, "yearTo") !== undefined ? { yearTo: number(form, "yearTo") } : {}),
     },
     confidenceLevel: number(form, "confidenceLevel") ?? 0.95,
+    ...(form.get("permutationTest") === "on" ? { permutationTest: { permutations: number(form, "permutations"), seed: number(form, "permutationSeed") ?? 1 } } : {}),
   };
 }
 

@@ -22,6 +22,7 @@ export function BuilderForm({ options }: { options: BuilderOptions }) {
   const [state, action, pending] = useActionState(createAnalysisAction, EMPTY_FORM_STATE);
   const [model, setModel] = useState("random_effects");
   const [outcome, setOutcome] = useState("recruitment");
+  const [permute, setPermute] = useState(false);
   return (
     <form action={action} className="builder" aria-label="Analysis builder">
       <FormMessage state={state} />
@@ -107,6 +108,21 @@ export function BuilderForm({ options }: { options: BuilderOptions }) {
             {m.unit ? ` (${m.unit})` : ""} <span className="muted">{m.kind}, {m.siteCount} sites</span>
           </label>
         ))}
+      </fieldset>
+      <fieldset>
+        <legend>Permutation test</legend>
+        <label className="check">
+          <input type="checkbox" name="permutationTest" checked={permute} onChange={(e) => setPermute(e.target.checked)} /> Test the moderators by permuting them across sites (Higgins &amp; Thompson 2004)
+        </label>
+        {permute ? (
+          <>
+            <label htmlFor="permutations">Number of permutations</label>
+            <input id="permutations" name="permutations" type="number" min={100} max={100000} step={100} defaultValue={1000} required />
+            <label htmlFor="permutationSeed">Seed</label>
+            <input id="permutationSeed" name="permutationSeed" type="number" min={1} max={2147483647} defaultValue={1} required />
+          </>
+        ) : null}
+        <p className="muted">Needs at least one moderator. An analysis with a permutation test runs in the background, with a progress bar and a cancel button on its page.</p>
       </fieldset>
       <fieldset>
         <legend>Subsets</legend>

@@ -75,6 +75,14 @@ export const binomialLogit: GlmFamily = {
   deviance(response, _mean, linearPredictor) {
     return binaryDeviance(response, linearPredictor);
   },
+  constantMeanDeviance(response, _mean, linearPredictor) {
+    // The per-observation terms softplus(-eta) (y = 1) and softplus(eta) (y = 0), counted; an
+    // absent class adds nothing (its term may be infinite when every outcome is the same).
+    let ones = 0;
+    for (let i = 0; i < response.length; i += 1) if (response[i]! === 1) ones += 1;
+    const zeros = response.length - ones;
+    return 2 * ((ones > 0 ? ones * softplus(-linearPredictor) : 0) + (zeros > 0 ? zeros * softplus(linearPredictor) : 0));
+  },
   logLikelihood(response, _mean, linearPredictor, deviance) {
     return -0.5 * (deviance ?? binaryDeviance(response, linearPredictor));
   },

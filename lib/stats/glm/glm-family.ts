@@ -35,6 +35,11 @@ export interface GlmFamily {
   /** The residual deviance 2 sum [l(y; y) - l(mu; y)]. */
   deviance(response: ArrayLike<number>, mean: Float64Array, linearPredictor: Float64Array): number;
   /**
+   * The residual deviance when every fitted mean is `mean` = g^{-1}(`linearPredictor`) (the null
+   * model), from sums over the response: no per-observation logarithms.
+   */
+  constantMeanDeviance(response: ArrayLike<number>, mean: number, linearPredictor: number): number;
+  /**
    * The log-likelihood at `mean`, with every normalising constant. `deviance`, the residual
    * deviance at the same means when the caller has it, spares the pass where the log-likelihood
    * is a function of it (binary data: l = -D / 2).

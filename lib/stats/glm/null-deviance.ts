@@ -12,16 +12,8 @@ export function hasInterceptColumn(design: DesignMatrix): boolean {
   return false;
 }
 
-/**
- * Deviance of the intercept-only model (or of eta = 0 when the design has no intercept).
- * `scratch`, two arrays of one entry per row, spares the allocation when a fit has them free.
- */
-export function nullDevianceOf(
-  design: DesignMatrix,
-  response: ArrayLike<number>,
-  family: GlmFamily,
-  scratch: { linearPredictor: Float64Array; mean: Float64Array } = { linearPredictor: new Float64Array(design.rows), mean: new Float64Array(design.rows) },
-): number {
+/** Deviance of the intercept-only model (or of eta = 0 when the design has no intercept). */
+export function nullDevianceOf(design: DesignMatrix, response: ArrayLike<number>, family: GlmFamily): number {
   const rows = design.rows;
   let eta = 0;
   if (hasInterceptColumn(design)) {
@@ -29,9 +21,8 @@ export function nullDevianceOf(
     for (let i = 0; i < rows; i += 1) sum += response[i]!;
     eta = family.linkOf(sum / rows);
   }
-  const { linearPredictor, mean } = scratch;
-  linearPredictor.fill(eta, 0, rows);
-  family.meanOf(linearPredictor.subarray(0, 1), mean.subarray(0, 1));
-  mean.fill(mean[0]!, 0, rows);
-  return family.deviance(response, mean.subarray(0, rows), linearPredictor.subarray(0, rows));
+  // The family's own inverse link, with its bounds on the mean.
+  const mean = new Float64Array(1);
+  family.meanOf(Float64Array.of(eta), mean);
+  return family.constantMeanDeviance(response, mean[0]!, eta);
 }

@@ -81,6 +81,17 @@ export const poissonLog: GlmFamily = {
     }
     return 2 * sum;
   },
+  constantMeanDeviance(response, mean) {
+    // 2 sum [y log(y / mu) - (y - mu)] = 2 [sum y log y - S log mu - S + n mu], S = sum y.
+    let total = 0;
+    let totalYLogY = 0;
+    for (let i = 0; i < response.length; i += 1) {
+      const y = response[i]!;
+      total += y;
+      if (y > 0) totalYLogY += y * logOfCount(y);
+    }
+    return 2 * (totalYLogY - total * Math.log(mean) - total + response.length * mean);
+  },
   logLikelihood(response, mean, linearPredictor) {
     let sum = 0;
     for (let i = 0; i < mean.length; i += 1) {

@@ -172,6 +172,8 @@ describe("hostile input", () => {
     const fit = fitGlm(designMatrix(4, ["intercept"], Float64Array.of(1, 1, 1, 1)), [0, 0, 0, 0], binomialLogit);
     expect(fit.separation.kind).toBe("complete");
     expect(fit.converged).toBe(false);
+    // The null model fits every 0 exactly in the limit: deviance 0, not NaN from 0 * infinity.
+    expect(fit.nullDeviance).toBe(0);
   });
 });
 

@@ -46,7 +46,7 @@ export default async function ReportPage({ params, searchParams }: { params: Pro
     figureNumber += 1;
     return (
       <figure className="chart report-figure" key={figureNumber}>
-        <div className="chart-scroll" dangerouslySetInnerHTML={{ __html: svg }} />
+        <div className="chart-scroll" tabIndex={0} role="group" aria-label={`Figure ${figureNumber} (scrolls)`} dangerouslySetInnerHTML={{ __html: svg }} />
         <figcaption>Figure {figureNumber}. {caption}</figcaption>
       </figure>
     );
