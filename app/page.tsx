@@ -138,7 +138,7 @@ export default async function NetworkPage({ searchParams }: { searchParams: Prom
                   <td className="num" title={String(site.longitude)}>{formatLongitude(site.longitude)}</td>
                   <td className="num">{site.firstYear}–{site.lastYear}</td>
                   <td className="num">{site.recordYears ? `${site.recordYears.first}–${site.recordYears.last} (${site.coverage.broodsByYear.length})` : "—"}</td>
-                  <td className="summary">{site.coverage.dataKinds.map((k) => KIND_SHORT[k]).join(", ") || "none"}</td>
+                  <td className="nowrap">{site.coverage.dataKinds.map((k) => KIND_SHORT[k]).join(", ") || "none"}</td>
                   <td className="num">{formatCount(site.broodCount)}</td>
                   <td className="num">{formatCount(site.estimateCount)}</td>
                 </tr>

@@ -28,7 +28,7 @@ export default async function AnalysesPage() {
                 <td><Link href={`/analyses/${a.id}`}>{a.name}</Link></td>
                 <td>{OUTCOME_LABELS[a.specification.outcome]}</td>
                 <td>{LEVEL_LABELS[a.specification.level]}, {a.specification.term}</td>
-                <td>{a.specification.model.type === "common_effect" ? "common effect" : `random effects (${a.specification.model.tau2Estimator.toUpperCase()})`}, {a.specification.test === "hksj" ? "HKSJ" : "z"}</td>
+                <td>{a.specification.model.type === "common_effect" ? "common effect" : a.specification.levels.length ? `multilevel: ${a.specification.levels.join(" / ")} (${a.specification.model.tau2Estimator.toUpperCase()})` : `random effects (${a.specification.model.tau2Estimator.toUpperCase()})`}, {a.specification.test === "hksj" ? "HKSJ" : "z"}{a.specification.robustCluster ? `, CR2 by ${a.specification.robustCluster}` : ""}{a.specification.permutationTest ? `, ${a.specification.permutationTest.permutations} permutations` : ""}</td>
                 <td>{a.specification.moderators.join(", ") || "none"}</td>
                 <td className="num">{a.runs.length}</td>
                 <td>{a.runs[0] ? a.runs[0].createdAt.toISOString().slice(0, 16).replace("T", " ") : "never"}</td>

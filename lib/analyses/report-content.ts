@@ -38,16 +38,21 @@ export function reportContent(run: StoredRun, context: { engineVersion: string; 
   const species = new Set(selection.studies.map((s) => s.species)).size;
   const moderators = selection.moderators.map((m) => (m.unit ? `${m.label.toLowerCase()} (${m.unit})` : m.label.toLowerCase()));
   const method = fit.model.method;
+  const components = fit.variance_components ?? null;
   const sentences = [
     `We pooled ${fit.model.k} ${LEVEL_LABELS[spec.level as keyof typeof LEVEL_LABELS] ?? spec.level} estimates of the ${spec.term} effect of mismatch on ${outcome.toLowerCase()} (${selection.link} link, ${scale}) from ${sites} site${sites === 1 ? "" : "s"} of ${species} species.`,
     method === "fe"
       ? "Estimates were combined in a common-effect (inverse-variance) model."
-      : `Estimates were combined in a ${moderators.length ? "mixed-effects meta-regression" : "random-effects model"} with the between-site variance (tau²) estimated by ${ESTIMATOR_REFERENCES[method] ?? fit.model.method_name}.`,
+      : components
+        ? `Estimates were combined in a multilevel ${moderators.length ? "meta-regression" : "model"} with nested random effects of ${components.map((c) => c.level).join(", ")} (one variance per level, estimated by ${fit.model.method_name}; Konstantopoulos 2011), with profile-likelihood intervals for each variance.`
+        : `Estimates were combined in a ${moderators.length ? "mixed-effects meta-regression" : "random-effects model"} with the between-site variance (tau²) estimated by ${ESTIMATOR_REFERENCES[method] ?? fit.model.method_name}.`,
+    fit.robust ? `Cluster-robust (CR2) standard errors with estimates clustered by ${fit.robust.cluster} (${fit.robust.clusters} clusters) and t tests on Satterthwaite degrees of freedom (Bell & McCaffrey 2002; Tipton 2015) are reported beside the model-based ones.` : "",
+    fit.permutation_test ? `The moderators were also tested by permutation (${fit.permutation_test.exact ? "all orderings" : `${fit.permutation_test.permutations} random orderings, seed ${fit.permutation_test.seed}`}; Higgins & Thompson 2004).` : "",
     fit.model.test === "hksj"
       ? `Tests and ${level}% confidence intervals used the Knapp-Hartung adjustment with t on ${fit.model.test_df} degrees of freedom (Hartung & Knapp 2001; Knapp & Hartung 2003).`
       : `Tests and ${level}% confidence intervals used the normal (Wald z) reference.`,
     moderators.length ? `Moderators: ${moderators.join(", ")}; their joint contribution was tested with an omnibus ${fit.moderators_test?.distribution === "F" ? "F" : "chi-square"} test.` : "",
-    method === "fe" ? "" : `The confidence interval for tau² (and I², H²) was obtained by the Q-profile method (Viechtbauer 2007); I² follows Higgins & Thompson (2002).`,
+    method === "fe" || components ? "" : `The confidence interval for tau² (and I², H²) was obtained by the Q-profile method (Viechtbauer 2007); I² follows Higgins & Thompson (2002).`,
     fit.coefficients.length === 1 && fit.prediction_interval ? `A ${level}% prediction interval for a new site used t on k − 2 degrees of freedom (Higgins, Thompson & Spiegelhalter 2009).` : "",
     `Computed with PhenoPool engine ${context.engineVersion} (run ${context.runId}, ${context.createdAt.toISOString().slice(0, 10)}), on the accepted data submissions ${selection.submissions.map((s) => `#${s.id} (SHA-256 ${s.sha256.slice(0, 12)}…)`).join(", ")}.`,
   ];
@@ -56,9 +61,19 @@ export function reportContent(run: StoredRun, context: { engineVersion: string; 
     { topic: "Data sources and inclusion", status: "filled", text: `Current estimates of the network's sites matching the analysis specification; ${selection.excluded.length} matching estimate(s) left out, each with its reason.` },
     { topic: "Literature search and screening", status: "to do", text: "Not applicable to pooled network data; describe how sites joined the network." },
     { topic: "Model and estimation method", status: "filled", text: `${fit.model.method_name}; ${fit.model.test_name}.` },
-    { topic: "Heterogeneity", status: "filled", text: `tau², I² and Q test with df and p, and the Q-profile interval for tau².` },
+    { topic: "Heterogeneity", status: "filled", text: components ? "A variance per level with its profile-likelihood interval, per-level and total I², and a likelihood-ratio test of each level." : `tau², I² and Q test with df and p, and the Q-profile interval for tau².` },
     { topic: "Moderators and their tests", status: moderators.length ? "filled" : "to do", text: moderators.length ? moderators.join(", ") : "No moderators in this analysis." },
-    { topic: "Non-independence (several estimates per site or species)", status: spec.grain === "site" ? "filled" : "to do", text: spec.grain === "site" ? "One estimate per site." : "Several estimates per site: consider a multilevel model or cluster-robust errors." },
+    {
+      topic: "Non-independence (several estimates per site or species)",
+      status: spec.grain === "site" || components || fit.robust ? "filled" : "to do",
+      text: components
+        ? `Multilevel model with levels ${components.map((c) => c.level).join(", ")}${fit.robust ? `; cluster-robust errors by ${fit.robust.cluster}` : ""}.`
+        : fit.robust
+          ? `Cluster-robust errors by ${fit.robust.cluster}.`
+          : spec.grain === "site"
+            ? "One estimate per site."
+            : "Several estimates per site: consider a multilevel model or cluster-robust errors.",
+    },
     { topic: "Sensitivity analyses and small-study tests", status: "to do", text: "Leave-one-out, influence and funnel-asymmetry tests are reported separately." },
     { topic: "Software, version and data versions", status: "filled", text: `PhenoPool ${context.engineVersion}; submissions ${selection.submissions.map((s) => `#${s.id}`).join(", ")}.` },
     { topic: "Data and code availability", status: "to do", text: "The network's data package export and this run's CSV downloads can be archived with the paper." },

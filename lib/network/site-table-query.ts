@@ -33,14 +33,14 @@ const latitudeSchema = z.coerce.number().min(-90, "latitude must be at least -90
 const yearSchema = z.coerce.number().int("a year is a whole number").min(1800, "year must be 1800 or later").max(2200, "year must be 2200 or earlier");
 
 const FIELDS = {
-  sort: { param: "sort", schema: z.enum(SITE_SORT_KEYS) },
-  direction: { param: "dir", schema: z.enum(["asc", "desc"]) },
+  sort: { param: "sort", schema: z.enum(SITE_SORT_KEYS, { error: `sort by one of ${SITE_SORT_KEYS.join(", ")}` }) },
+  direction: { param: "dir", schema: z.enum(["asc", "desc"], { error: "dir is asc or desc" }) },
   species: { param: "species", schema: z.string().trim().min(1).max(200) },
   latitudeFrom: { param: "lat_from", schema: latitudeSchema },
   latitudeTo: { param: "lat_to", schema: latitudeSchema },
   yearFrom: { param: "year_from", schema: yearSchema },
   yearTo: { param: "year_to", schema: yearSchema },
-  dataKind: { param: "kind", schema: submissionKindSchema },
+  dataKind: { param: "kind", schema: z.enum(submissionKindSchema.options, { error: `kind is one of ${submissionKindSchema.options.join(", ")}` }) },
 } as const;
 
 /** The query parameter of each field, for building links and forms. */

@@ -210,6 +210,23 @@ describe("the browser workbench", () => {
     const [download] = await Promise.all([page.waitForEvent("download"), page.keyboard.press("Enter")]);
     expect(download.suggestedFilename()).toBe("leave-one-out.csv");
 
+    // A multilevel model (species and estimate levels) with cluster-robust standard errors by species.
+    const resultsUrl = page.url();
+    await page.goto(`${app.baseUrl}/analyses/new`);
+    await page.getByLabel("Analysis name").fill("Recruitment, species and site levels");
+    await page.getByRole("checkbox", { name: "Species", exact: true }).check();
+    await page.getByRole("checkbox", { name: /^Estimate/ }).check();
+    await page.getByLabel("Cluster-robust (CR2) standard errors").selectOption("species");
+    await page.getByRole("button", { name: "Save analysis" }).click();
+    await page.waitForURL(/\/analyses\/\d+$/);
+    await page.getByRole("button", { name: "Run", exact: true }).click();
+    await page.waitForURL(/\?run=\d+$/);
+    const components = page.getByRole("table", { name: "Variance components" });
+    await expect(components.locator("tbody tr").count()).resolves.toBe(2);
+    await expect(page.getByRole("table", { name: "Cluster-robust inference" }).textContent()).resolves.toMatch(/4 clusters by species/);
+    await audit("multilevel-results");
+    await screenshot(page, "analysis-multilevel");
+    await page.goto(resultsUrl);
     await page.getByRole("link", { name: "Report" }).click();
     await page.waitForURL(/\/report\?run=\d+$/);
     await audit("report");
@@ -218,7 +235,7 @@ describe("the browser workbench", () => {
   });
 
   it("has no console errors, and every page visited names its charts and controls and keeps keyboard focus on controls", () => {
-    expect(Object.keys(audited).sort()).toEqual(["analyses", "builder", "network", "report", "results", "site", "site-restore-preview", "upload"]);
+    expect(Object.keys(audited).sort()).toEqual(["analyses", "builder", "multilevel-results", "network", "report", "results", "site", "site-restore-preview", "upload"]);
     expect(audited).toEqual(Object.fromEntries(Object.keys(audited).map((name) => [name, []])));
     expect(errors).toEqual([]);
   });

@@ -1,6 +1,6 @@
 /**
  * A separate process that keeps writing: `node --import tsx test/helpers/submission-writer-process.ts URL SITE`
- * writes brood-record submissions of 200 rows to SITE, one after another through the one write
+ * writes brood-record submissions of 20 rows to SITE, one after another through the one write
  * path (writeSubmission), printing "wrote N" after each, until its standard input closes. Tests
  * use it to have another process write while they take a backup or check a database.
  */
@@ -17,10 +17,11 @@ process.stdin.on("close", () => (open = false));
 process.stdin.resume();
 
 for (let n = 1; open; n++) {
-  const rows = Array.from({ length: 200 }, (_, i) => ({ year: 2001 + (i % 3), femaleId: `W${n}-${i}`, layDateDoy: 100 + (i % 30), clutchSize: 8, hatchDateDoy: null, fledglings: 4, recruits: i % 2 }));
+  const rows = Array.from({ length: 20 }, (_, i) => ({ year: 2001 + (i % 3), femaleId: `W${n}-${i}`, layDateDoy: 100 + (i % 30), clutchSize: 8, hatchDateDoy: null, fledglings: 4, recruits: i % 2 }));
   const sha256 = createHash("sha256").update(`writer ${process.pid} ${n}`).digest("hex");
   await writeSubmission(db, { siteCode, kind: "brood_records", fileName: `writer-${n}.csv`, sha256, rows });
   process.stdout.write(`wrote ${n}\n`);
-  await new Promise((resolve) => setTimeout(resolve, 2));
+  // SQLite's client answers without I/O: give way so the end of standard input is noticed.
+  await new Promise((resolve) => setImmediate(resolve));
 }
 await db.$disconnect();

@@ -77,7 +77,8 @@ export default async function AnalysisPage({ params, searchParams }: { params: P
       <h1>{analysis.name}</h1>
       <p className="lede">
         {OUTCOME_LABELS[spec.outcome]}, {LEVEL_LABELS[spec.level]} {spec.term} term, {spec.grain === "site" ? "one estimate per site" : "one estimate per site and year"};{" "}
-        {spec.model.type === "common_effect" ? "common-effect model" : `random-effects model (${spec.model.tau2Estimator.toUpperCase()})`}, {spec.test === "hksj" ? "Knapp-Hartung test" : "z test"}
+        {spec.model.type === "common_effect" ? "common-effect model" : spec.levels.length ? `multilevel model (${spec.levels.join(" / ")}, ${spec.model.tau2Estimator.toUpperCase()})` : `random-effects model (${spec.model.tau2Estimator.toUpperCase()})`}, {spec.test === "hksj" ? "Knapp-Hartung test" : "z test"}
+        {spec.robustCluster ? `, cluster-robust (CR2) standard errors by ${spec.robustCluster}` : ""}
         {spec.moderators.length ? `; moderators ${spec.moderators.join(", ")}` : ""}
         {spec.permutationTest ? `; permutation test with ${spec.permutationTest.permutations.toLocaleString("en-GB")} permutations (seed ${spec.permutationTest.seed})` : ""}.
         {spec.description ? ` ${spec.description}` : ""}

@@ -40,6 +40,8 @@ function specificationFromForm(form: FormData): unknown {
       ...(number(form, "yearTo") !== undefined ? { yearTo: number(form, "yearTo") } : {}),
     },
     confidenceLevel: number(form, "confidenceLevel") ?? 0.95,
+    levels: form.getAll("levels").map(String),
+    ...(text(form, "robustCluster") ? { robustCluster: text(form, "robustCluster") } : {}),
     ...(form.get("permutationTest") === "on" ? { permutationTest: { permutations: number(form, "permutations"), seed: number(form, "permutationSeed") ?? 1 } } : {}),
   };
 }

@@ -18,11 +18,20 @@ const OUTCOMES: [string, string][] = [
   ["selection_gradient", "Selection gradient"],
 ];
 
+const LEVELS: [string, string][] = [
+  ["species", "Species"],
+  ["site", "Site"],
+  ["estimate", "Estimate (site-year, for one estimate per site and year)"],
+];
+
 export function BuilderForm({ options }: { options: BuilderOptions }) {
   const [state, action, pending] = useActionState(createAnalysisAction, EMPTY_FORM_STATE);
   const [model, setModel] = useState("random_effects");
   const [outcome, setOutcome] = useState("recruitment");
   const [permute, setPermute] = useState(false);
+  const [levels, setLevels] = useState<string[]>([]);
+  const multilevel = levels.length > 0;
+  const toggleLevel = (level: string, on: boolean) => setLevels((current) => LEVELS.map(([value]) => value).filter((value) => (value === level ? on : current.includes(value))));
   return (
     <form action={action} className="builder" aria-label="Analysis builder">
       <FormMessage state={state} />
@@ -84,11 +93,20 @@ export function BuilderForm({ options }: { options: BuilderOptions }) {
               <option value="he">Hedges</option>
               <option value="sj">Sidik-Jonkman</option>
             </select>
-            <label htmlFor="test">Test and intervals</label>
-            <select id="test" name="test" defaultValue="hksj">
-              <option value="hksj">Knapp-Hartung (t, adjusted variance)</option>
-              <option value="z">Wald z</option>
-            </select>
+            {multilevel ? (
+              <>
+                <input type="hidden" name="test" value="z" />
+                <p className="muted">A multilevel model uses Wald z tests; for small-sample tests choose cluster-robust standard errors below.</p>
+              </>
+            ) : (
+              <>
+                <label htmlFor="test">Test and intervals</label>
+                <select id="test" name="test" defaultValue="hksj">
+                  <option value="hksj">Knapp-Hartung (t, adjusted variance)</option>
+                  <option value="z">Wald z</option>
+                </select>
+              </>
+            )}
           </>
         ) : (
           <input type="hidden" name="test" value="z" />
@@ -108,6 +126,21 @@ export function BuilderForm({ options }: { options: BuilderOptions }) {
             {m.unit ? ` (${m.unit})` : ""} <span className="muted">{m.kind}, {m.siteCount} sites</span>
           </label>
         ))}
+      </fieldset>
+      <fieldset>
+        <legend>Multilevel model and robust standard errors</legend>
+        <p className="muted">Nested random effects, one variance per level (random effects, REML or ML). Leave all unticked for a single-level model.</p>
+        {LEVELS.map(([value, label]) => (
+          <label key={value} className="check">
+            <input type="checkbox" name="levels" value={value} checked={levels.includes(value)} onChange={(e) => toggleLevel(value, e.target.checked)} /> {label}
+          </label>
+        ))}
+        <label htmlFor="robustCluster">Cluster-robust (CR2) standard errors</label>
+        <select id="robustCluster" name="robustCluster" defaultValue="">
+          <option value="">none (model-based)</option>
+          <option value="site">clustered by site</option>
+          <option value="species">clustered by species</option>
+        </select>
       </fieldset>
       <fieldset>
         <legend>Permutation test</legend>

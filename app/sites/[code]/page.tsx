@@ -167,11 +167,11 @@ export default async function SitePage({ params, searchParams }: { params: Promi
         <p className="empty">{jobs.some((j) => j.kind === "recompute_site_estimates" && isActive(j)) ? "The site's estimates are being recomputed from its current data (progress above)." : "No estimates yet."}</p>
       ) : (
         <>
-          <EstimatesTable rows={estimates.filter((e) => e.year === null)} caption="Current site-level estimates with Wald 95% intervals (estimate ± 1.96 SE on the link scale); full values on hover" />
+          <EstimatesTable rows={estimates.filter((e) => e.year === null)} caption="Current estimates for the whole site, with Wald 95% intervals (estimate ± 1.96 SE on the link scale); full values on hover" />
           {estimates.some((e) => e.year !== null) ? (
             <details>
               <summary>{estimates.filter((e) => e.year !== null).length} single-year estimates</summary>
-              <EstimatesTable rows={estimates.filter((e) => e.year !== null)} caption="Current single-year estimates with Wald 95% intervals" />
+              <EstimatesTable rows={estimates.filter((e) => e.year !== null)} caption="Current estimates for single years, with Wald 95% intervals" />
             </details>
           ) : null}
         </>
