@@ -24,7 +24,16 @@ export const SQLITE_BUSY_TIMEOUT_MS = 15_000;
  */
 export const TRANSACTION_START_WAIT_MS = 120_000;
 
-export function createDb(url: string): Db {
+export interface CreateDbOptions {
+  /**
+   * SQLite: how long a write waits for another process's lock (default SQLITE_BUSY_TIMEOUT_MS).
+   * The wait blocks the process, so the web server keeps it short; the background job process,
+   * which serves no requests, waits longer rather than fail while the server writes a large upload.
+   */
+  sqliteBusyTimeoutMs?: number;
+}
+
+export function createDb(url: string, options: CreateDbOptions = {}): Db {
   const transactionOptions = { maxWait: TRANSACTION_START_WAIT_MS };
   if (providerOf(url) === "postgresql") {
     return new PostgresClient({ adapter: new PrismaPg({ connectionString: url }), transactionOptions }) as unknown as Db;
@@ -32,7 +41,7 @@ export function createDb(url: string): Db {
   const path = sqlitePath(url);
   if (path !== ":memory:") mkdirSync(dirname(path), { recursive: true });
   // One writing and one reading connection: see sqlite-connections.ts.
-  return new SqliteClient({ adapter: new SqliteConnections({ path, busyTimeoutMs: SQLITE_BUSY_TIMEOUT_MS }), transactionOptions });
+  return new SqliteClient({ adapter: new SqliteConnections({ path, busyTimeoutMs: options.sqliteBusyTimeoutMs ?? SQLITE_BUSY_TIMEOUT_MS }), transactionOptions });
 }
 
 const cache = globalThis as unknown as { phenopoolDb?: { url: string; db: Db } };

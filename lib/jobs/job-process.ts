@@ -10,14 +10,22 @@
  * running is left running in the database, and the next start re-queues and redoes it. Each job
  * writes its results in one transaction, so an interrupted job leaves the results as they were.
  */
-import { getDb } from "../db/client";
+import { readEnv } from "../config/env";
+import { createDb } from "../db/client";
 import { JOB_HANDLERS } from "./job-handlers";
 import { JobRunner } from "./job-runner";
 import { READY_MESSAGE, WAKE_MESSAGE } from "./server-job-runner";
 
+/**
+ * On SQLite the server's uploads hold the write lock for as long as their rows take to go in, one
+ * after another under load: a job's writes wait for a gap (this process serves no requests).
+ */
+const JOB_SQLITE_BUSY_TIMEOUT_MS = 10 * 60_000;
+
 async function main(): Promise<void> {
   process.on("disconnect", () => process.exit(0));
-  const runner = new JobRunner(getDb(), JOB_HANDLERS, { onError: (error) => console.error("PhenoPool job runner:", error) });
+  const db = createDb(readEnv().DATABASE_URL, { sqliteBusyTimeoutMs: JOB_SQLITE_BUSY_TIMEOUT_MS });
+  const runner = new JobRunner(db, JOB_HANDLERS, { onError: (error) => console.error("PhenoPool job runner:", error) });
   process.on("message", (message) => {
     if (message === WAKE_MESSAGE) runner.wake();
   });

@@ -74,7 +74,7 @@ export interface RunningServer {
  * Starts `next start` (the build in .next must exist: run `next build` first) on loopback against
  * `databaseUrl`, with `env` added to the environment, and resolves once it answers.
  */
-export async function startServer(options: { databaseUrl: string; env?: NodeJS.ProcessEnv }): Promise<RunningServer> {
+export async function startServer(options: { databaseUrl: string; env?: Record<string, string> }): Promise<RunningServer> {
   if (!existsSync(join(process.cwd(), ".next", "BUILD_ID"))) throw new Error("no production build: run `npx next build` before the end-to-end tests");
   const env: NodeJS.ProcessEnv = { ...process.env, ...options.env, DATABASE_URL: options.databaseUrl, NODE_ENV: "production" as const };
   const port = await freePort();
