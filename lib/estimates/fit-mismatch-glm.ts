@@ -150,8 +150,12 @@ export function fitMismatchGlm(
   if (!fit.converged) return { ok: false, reason: `the fit did not converge (${fit.warnings.map((w) => w.message).join("; ")})` };
   // Zero to rounding: Pearson's X^2 is a sum of squared residuals that can only be 0 at an exact fit.
   if (outcome.quasi && !(fit.pearsonChiSquare > 1e-10 * fit.n)) return { ok: false, reason: "the Pearson dispersion is 0 (every count fitted exactly): quasi-Poisson standard errors are not usable" };
-  const bad = fit.standardErrors.findIndex((se) => !(se > 0) || !Number.isFinite(se));
-  if (bad >= 0) return { ok: false, reason: `no finite standard error for ${fit.coefficientNames[bad]}` };
+  // Every coefficient, not only c and c^2: an estimate is never stored without its standard error.
+  const bad = fit.standardErrors.findIndex((se) => se === null || !(se > 0 && Number.isFinite(se)));
+  if (bad >= 0) {
+    const unavailable = fit.warnings.find((w) => w.code === "wald_unavailable");
+    return { ok: false, reason: `no finite standard error for ${fit.coefficientNames[bad]}${unavailable ? ` (${unavailable.message})` : ""}` };
+  }
   warnings.push(...fit.warnings.filter((w) => w.code !== "separation"));
   return { ok: true, fit, n, years: keep, firthReason, warnings };
 }

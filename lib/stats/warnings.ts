@@ -13,6 +13,7 @@ export const WARNING_CODES = [
   "data_dropped",
   "implausible_fit",
   "interval_unavailable",
+  "wald_unavailable",
   "refit_unavailable",
   "few_clusters",
 ] as const;

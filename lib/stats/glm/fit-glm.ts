@@ -13,8 +13,6 @@
 import type { DesignMatrix } from "../linear/design-matrix";
 import { designTimesVector } from "../linear/design-times-vector";
 import type { NormalEquationsSolution } from "../linear/weighted-normal-equations";
-import { normalTwoSidedP } from "../distributions/normal";
-import { studentTTwoSidedP } from "../distributions/student-t";
 import { ModelInputError } from "../model-error";
 import { warning, type StatWarning } from "../warnings";
 import type { GlmFamily } from "./glm-family";
@@ -24,6 +22,7 @@ import { irlsStep, irlsWorkspace } from "./irls-step";
 import { pearsonDispersion } from "./pearson-dispersion";
 import { singularDesignMessage, validateGlmInput } from "./validate-glm-input";
 import { hasInterceptColumn, nullDevianceOf } from "./null-deviance";
+import { waldInference } from "./wald-inference";
 
 export interface GlmFitOptions {
   /** Fisher-scoring iterations at most. Default 50. */
@@ -44,7 +43,9 @@ export interface GlmFitOptions {
  * the family accepts (0/1 for binomialLogit, whole counts for poissonLog).
  * Returns an immutable GlmResult. A fit that did not converge, or whose estimates diverge
  * (separation), is returned with converged = false or separation.kind != "none" and a warning,
- * never silently: callers must not report its coefficients as estimates.
+ * never silently: callers must not report its coefficients as estimates. Under separation the
+ * standard errors, statistics, p-values and covariance are null, and a "wald_unavailable"
+ * warning says so.
  * Throws ModelInputError for input that cannot be fitted (empty, too few rows, non-finite design,
  * invalid response, singular design, or a quasi-likelihood fit with no residual degrees of freedom).
  *
@@ -151,12 +152,14 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
     if (residualDf < 1) throw new ModelInputError("quasi-likelihood dispersion needs more observations than coefficients");
     dispersion = pearsonDispersion(pearsonChiSquare, residualDf);
   }
-  const covariance = information ? Array.from(information.inverse(), (value) => value * dispersion) : new Array<number>(columns * columns).fill(NaN);
-  const standardErrors = Array.from({ length: columns }, (_, j) => Math.sqrt(covariance[j * columns + j]!));
+  // Without a maximum the information at the last iterate describes no estimate (and vanishes
+  // along the diverging direction): the Wald quantities do not exist.
+  const covariance = information && separation.kind === "none" ? information.inverse().map((value) => value * dispersion) : null;
   const coefficientList = Array.from(coefficients);
-  const statistics = coefficientList.map((value, j) => value / standardErrors[j]!);
   const statisticName = dispersionMethod === "pearson" ? "t" : "z";
-  const pValues = statistics.map((statistic) => (statisticName === "t" ? studentTTwoSidedP(statistic, residualDf) : normalTwoSidedP(statistic)));
+  const remedy = family.name === "binomial" ? "Firth's penalised fit (fitFirthLogistic) gives finite estimates with standard errors" : "leave out or merge the observations whose fitted means tend to 0";
+  const wald = waldInference(design.columnNames, coefficientList, covariance, statisticName, residualDf, `no maximum-likelihood estimate exists (separation), so the information matrix at the last iterate describes no estimate; ${remedy}`);
+  warnings.push(...wald.warnings);
   const logLikelihood = dispersionMethod === "pearson" ? null : family.logLikelihood(response, mean, linearPredictor, deviance);
   if (dispersionMethod === "pearson" && !(pearsonChiSquare > 1e-10 * rows)) {
     warnings.push(warning("implausible_fit", "Pearson dispersion is 0 to rounding (the model fits every count exactly): quasi-likelihood standard errors are 0 and not usable"));
@@ -168,11 +171,11 @@ export function fitGlm(design: DesignMatrix, responseValues: ArrayLike<number>, 
     estimator: "maximum_likelihood",
     coefficientNames: design.columnNames,
     coefficients: coefficientList,
-    standardErrors,
-    statistics,
+    standardErrors: wald.standardErrors,
+    statistics: wald.statistics,
     statisticName,
-    pValues,
-    covariance,
+    pValues: wald.pValues,
+    covariance: wald.covariance,
     dispersion,
     dispersionMethod,
     pearsonChiSquare,

@@ -15,20 +15,24 @@ export interface SeparationDiagnosis {
   readonly divergingCoefficients: readonly string[];
 }
 
-/** One fitted generalised linear model. Arrays follow `coefficientNames`. */
+/**
+ * One fitted generalised linear model. Arrays follow `coefficientNames`. A Wald quantity that does
+ * not exist (no maximum-likelihood estimate under separation, a singular information matrix, a
+ * statistic over a standard error of 0) is null, and a "wald_unavailable" warning says which and why.
+ */
 export interface GlmResult {
   readonly family: "binomial" | "poisson";
   readonly link: "logit" | "log";
   readonly estimator: GlmEstimator;
   readonly coefficientNames: readonly string[];
   readonly coefficients: readonly number[];
-  readonly standardErrors: readonly number[];
+  readonly standardErrors: readonly (number | null)[];
   /** Wald statistics: z when the dispersion is fixed, t (on residualDf) when it is estimated. */
-  readonly statistics: readonly number[];
+  readonly statistics: readonly (number | null)[];
   readonly statisticName: "z" | "t";
-  readonly pValues: readonly number[];
+  readonly pValues: readonly (number | null)[];
   /** Covariance of the coefficients (inverse Fisher information times the dispersion), p x p row-major. */
-  readonly covariance: readonly number[];
+  readonly covariance: readonly (number | null)[];
   readonly dispersion: number;
   readonly dispersionMethod: DispersionMethod;
   readonly pearsonChiSquare: number;
@@ -50,11 +54,18 @@ export interface GlmResult {
 }
 
 /**
- * The estimate and standard error of one named coefficient.
- * Throws Error when the model has no such coefficient.
+ * The estimate and standard error of one named coefficient, for reporting: an estimate is never
+ * reported without its standard error.
+ * Throws Error when the model has no such coefficient, or when its standard error is unavailable
+ * (the message gives the fit's reason); callers refuse such fits before asking.
  */
 export function coefficientOf(result: GlmResult, name: string): { estimate: number; standardError: number } {
   const index = result.coefficientNames.indexOf(name);
   if (index < 0) throw new Error(`the model has no coefficient ${name} (it has ${result.coefficientNames.join(", ")})`);
-  return { estimate: result.coefficients[index]!, standardError: result.standardErrors[index]! };
+  const standardError = result.standardErrors[index]!;
+  if (standardError === null) {
+    const why = result.warnings.find((w) => w.code === "wald_unavailable")?.message ?? "no reason recorded";
+    throw new Error(`the standard error of ${name} is unavailable, so its estimate cannot be reported (${why})`);
+  }
+  return { estimate: result.coefficients[index]!, standardError };
 }

@@ -1,15 +1,10 @@
+import { interceptColumnOf } from "../linear/column-centring";
 import type { DesignMatrix } from "../linear/design-matrix";
 import type { GlmFamily } from "./glm-family";
 
 /** Whether some column of the design is all ones (a declared factor-plus-covariates design has its intercept first). */
 export function hasInterceptColumn(design: DesignMatrix): boolean {
-  if (design.factorStructure) return true;
-  for (let j = 0; j < design.columns; j += 1) {
-    let allOnes = true;
-    for (let i = 0; i < design.rows && allOnes; i += 1) allOnes = design.data[i * design.columns + j] === 1;
-    if (allOnes) return true;
-  }
-  return false;
+  return interceptColumnOf(design) >= 0;
 }
 
 /** Deviance of the intercept-only model (or of eta = 0 when the design has no intercept). */

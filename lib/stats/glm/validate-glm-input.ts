@@ -1,13 +1,12 @@
 import type { DesignMatrix } from "../linear/design-matrix";
-import { choleskyFactor } from "../linear/cholesky";
-import { weightedCrossProducts } from "../linear/weighted-cross-products";
+import { solveWeightedNormalEquations } from "../linear/weighted-normal-equations";
 import { ModelInputError } from "../model-error";
 import type { GlmFamily } from "./glm-family";
 
 /**
  * Checks a GLM's input before fitting: rows match, more observations than coefficients, finite
  * design, a response the family accepts, and a design of full column rank (a dependent column is
- * named). Throws ModelInputError saying what is wrong; returns nothing when the input can be fitted.
+ * named; judged as the scoring steps judge it, on unit weights). Throws ModelInputError saying what is wrong; returns nothing when the input can be fitted.
  */
 export function validateGlmInput(design: DesignMatrix, response: ArrayLike<number>, family: GlmFamily, options: { checkRank?: boolean } = {}): void {
   const { rows, columns, columnNames } = design;
@@ -29,9 +28,8 @@ export function validateGlmInput(design: DesignMatrix, response: ArrayLike<numbe
   if (invalid) throw new ModelInputError(invalid);
   if (options.checkRank === false) return;
   const unit = new Float64Array(rows).fill(1);
-  const { xtwx } = weightedCrossProducts(design, unit, unit);
-  const factor = choleskyFactor(xtwx, columns);
-  if (!factor.ok) throw new ModelInputError(singularDesignMessage(design, factor.column));
+  const solved = solveWeightedNormalEquations(design, unit, unit);
+  if (!solved.ok) throw new ModelInputError(singularDesignMessage(design, solved.column));
 }
 
 /** The error text for a design whose column `column` depends on the columns before it. */

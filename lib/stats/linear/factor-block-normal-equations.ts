@@ -26,8 +26,11 @@ import type { NormalEquationsOutcome } from "./weighted-normal-equations";
 /**
  * Solves X'WX b = X'Wz for a design with the given structure, weights w and working response z
  * (one entry per row each; weights >= 0). `relativeTolerance` is the Cholesky pivot test of
- * choleskyFactor. Returns the coefficients in the design's column order with the inverse on
- * demand, or the first dependent column. Never throws for valid structures.
+ * choleskyFactor. `covariateShift` (one entry per covariate, see column-centring.ts) is subtracted
+ * from each covariate's values first: the solution is then that of the shifted design, whose
+ * intercept is the reference level's linear predictor at covariates equal to the shift. Returns
+ * the coefficients in the design's column order with the inverse on demand, or the first
+ * dependent column. Never throws for valid structures.
  * Example: 2 levels, rows at levels [0, 0, 1, 1], one covariate [1, 2, 3, 5], unit weights and
  * z = [1, 2, 3, 4] give coefficients [0.6, 0.5, 0.6] (intercept, level-1 difference, slope).
  */
@@ -36,6 +39,7 @@ export function solveFactorBlockNormalEquations(
   weights: ArrayLike<number>,
   response: ArrayLike<number>,
   relativeTolerance = 1e-10,
+  covariateShift: ArrayLike<number> = new Float64Array(structure.covariateCount),
 ): NormalEquationsOutcome {
   const { levels, levelOfRow, covariateCount: p, covariateValues: x } = structure;
   const rows = levelOfRow.length;
@@ -44,8 +48,9 @@ export function solveFactorBlockNormalEquations(
   const levelCross = new Float64Array(levels * p);
   const covariateCross = new Float64Array(p * p);
   const covariateRhs = new Float64Array(p);
-  if (p === 2) accumulateTwoCovariates(levelOfRow, x, weights, response, levelWeight, levelRhs, levelCross, covariateCross, covariateRhs);
+  if (p === 2) accumulateTwoCovariates(levelOfRow, x, covariateShift, weights, response, levelWeight, levelRhs, levelCross, covariateCross, covariateRhs);
   else {
+    const row = new Float64Array(p);
     for (let i = 0; i < rows; i += 1) {
       const level = levelOfRow[i]!;
       const w = weights[i]!;
@@ -54,12 +59,13 @@ export function solveFactorBlockNormalEquations(
       levelRhs[level] += wz;
       const offset = i * p;
       const crossOffset = level * p;
+      for (let j = 0; j < p; j += 1) row[j] = x[offset + j]! - covariateShift[j]!;
       for (let j = 0; j < p; j += 1) {
-        const xj = x[offset + j]!;
+        const xj = row[j]!;
         const wxj = w * xj;
         levelCross[crossOffset + j] += wxj;
         covariateRhs[j] += xj * wz;
-        for (let l = 0; l <= j; l += 1) covariateCross[j * p + l] += wxj * x[offset + l]!;
+        for (let l = 0; l <= j; l += 1) covariateCross[j * p + l] += wxj * row[l]!;
       }
     }
   }
@@ -158,6 +164,7 @@ export function solveFactorBlockNormalEquations(
 function accumulateTwoCovariates(
   levelOfRow: Int32Array,
   x: Float64Array,
+  shift: ArrayLike<number>,
   weights: ArrayLike<number>,
   response: ArrayLike<number>,
   levelWeight: Float64Array,
@@ -171,14 +178,16 @@ function accumulateTwoCovariates(
   let c11 = 0;
   let r0 = 0;
   let r1 = 0;
+  const s0 = shift[0]!;
+  const s1 = shift[1]!;
   for (let i = 0; i < levelOfRow.length; i += 1) {
     const level = levelOfRow[i]!;
     const w = weights[i]!;
     const wz = w * response[i]!;
     levelWeight[level] += w;
     levelRhs[level] += wz;
-    const x0 = x[2 * i]!;
-    const x1 = x[2 * i + 1]!;
+    const x0 = x[2 * i]! - s0;
+    const x1 = x[2 * i + 1]! - s1;
     const wx0 = w * x0;
     const wx1 = w * x1;
     levelCross[2 * level] += wx0;

@@ -14,6 +14,7 @@
  * y ~ Z gamma the user's coefficients are beta = T^{-1} gamma, Cov(beta) = T^{-1} Cov(gamma) T^{-T}.
  * Tau^2, Q, fitted values and every test of the moderators are unchanged by the transformation.
  */
+import { interceptColumnOf } from "../linear/column-centring";
 import type { DesignMatrix } from "../linear/design-matrix";
 import { choleskyFactor, choleskyLogDeterminant, choleskySolve } from "../linear/cholesky";
 import { crossProductKernel, kernelOutputLength, unpackLowerTriangle } from "./cross-product-kernel";
@@ -49,16 +50,6 @@ function quote(name: string): string {
 function listNames(names: readonly string[]): string {
   if (names.length <= 1) return names.join("");
   return `${names.slice(0, -1).join(", ")} and ${names[names.length - 1]}`;
-}
-
-function findInterceptColumn(design: DesignMatrix): number {
-  const { rows, columns, data } = design;
-  for (let j = 0; j < columns; j += 1) {
-    let allOnes = true;
-    for (let i = 0; i < rows && allOnes; i += 1) allOnes = data[i * columns + j] === 1;
-    if (allOnes) return j;
-  }
-  return -1;
 }
 
 /**
@@ -102,7 +93,7 @@ function collinearityMessage(gram: Float64Array, size: number, dependent: number
  */
 export function conditionDesign(design: DesignMatrix): ConditionedDesign {
   const { rows, columns, data, columnNames } = design;
-  const interceptColumn = findInterceptColumn(design);
+  const interceptColumn = interceptColumnOf(design);
   const centred = interceptColumn >= 0;
   // One column at a time with scalar accumulators (V8 keeps those in registers): the mean, then
   // the first two moments of the deviations from it.

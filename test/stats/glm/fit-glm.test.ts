@@ -7,6 +7,7 @@ import { designMatrix, type DesignMatrix } from "@/lib/stats/linear/design-matri
 import { factorDesign } from "@/lib/stats/linear/treatment-contrasts";
 import { createRandomStream } from "@/lib/stats/random/xoshiro128";
 import { ModelInputError } from "@/lib/stats/model-error";
+import { available } from "@/test/helpers/available";
 import { expectAllClose, expectClose } from "@/test/helpers/expect-close";
 import { readRFixture } from "@/test/helpers/r-fixture";
 
@@ -50,7 +51,7 @@ describe("logistic regression: space shuttle O-rings (Dalal, Fowlkes & Hoadley 1
 
   it("matches R's glm (control epsilon 1e-14) to 1e-9 relative", () => {
     expectAllClose(fit.coefficients, textbook.oring.coefficients, { rtol: 1e-9, label: "coefficients" });
-    expectAllClose(fit.standardErrors, textbook.oring.se, { rtol: 1e-9, label: "SE" });
+    expectAllClose(available(fit.standardErrors, "SE"), textbook.oring.se, { rtol: 1e-9, label: "SE" });
     expectClose(fit.deviance, textbook.oring.deviance, { rtol: 1e-12, label: "deviance" });
     expectClose(fit.nullDeviance, textbook.oring.null_deviance, { rtol: 1e-12, label: "null deviance" });
     expectClose(fit.aic!, textbook.oring.aic, { rtol: 1e-12, label: "AIC" });
@@ -78,7 +79,7 @@ describe("Poisson regression: Dobson (1990, p. 93)", () => {
 
   it("matches R's glm to 1e-9 relative, AIC included", () => {
     expectAllClose(fit.coefficients.slice(0, 3), textbook.dobson.coefficients.slice(0, 3), { rtol: 1e-9, label: "coefficients" });
-    expectAllClose(fit.standardErrors, textbook.dobson.se, { rtol: 1e-9, label: "SE" });
+    expectAllClose(available(fit.standardErrors, "SE"), textbook.dobson.se, { rtol: 1e-9, label: "SE" });
     expectClose(fit.nullDeviance, textbook.dobson.null_deviance, { rtol: 1e-12, label: "null deviance" });
     expectClose(fit.aic!, textbook.dobson.aic, { rtol: 1e-12, label: "AIC" });
   });
@@ -87,7 +88,7 @@ describe("Poisson regression: Dobson (1990, p. 93)", () => {
     const quasi = fitGlm(dobsonDesign, counts, poissonLog, { dispersion: "pearson" });
     expectClose(quasi.dispersion, textbook.dobson_quasi.dispersion, { rtol: 1e-10, label: "dispersion" });
     expectClose(quasi.dispersion, quasi.pearsonChiSquare / 4, { rtol: 1e-14, label: "dispersion = X2/df" });
-    expectAllClose(quasi.standardErrors, textbook.dobson_quasi.se, { rtol: 1e-9, label: "quasi SE" });
+    expectAllClose(available(quasi.standardErrors, "quasi SE"), textbook.dobson_quasi.se, { rtol: 1e-9, label: "quasi SE" });
     expect(quasi.statisticName).toBe("t");
     expect(quasi.aic).toBeNull();
     expect(quasi.logLikelihood).toBeNull();
@@ -103,6 +104,20 @@ describe("separation", () => {
     expect(fit.separation.boundaryObservations).toBe(4);
     expect(fit.separation.divergingCoefficients).toContain("x");
     expect(fit.warnings.map((w) => w.code)).toContain("separation");
+  });
+
+  it("reports no Wald inference without a maximum: null standard errors, statistics, p-values and covariance, named in a warning", () => {
+    // Albert & Anderson (1984): under separation the MLE does not exist, so neither do its Wald SEs.
+    const design = designMatrix(4, ["intercept", "x"], Float64Array.of(1, 1, 1, 2, 1, 3, 1, 4));
+    const fit = fitGlm(design, [0, 0, 1, 1], binomialLogit);
+    expect(fit.standardErrors).toEqual([null, null]);
+    expect(fit.statistics).toEqual([null, null]);
+    expect(fit.pValues).toEqual([null, null]);
+    expect(fit.covariance).toEqual([null, null, null, null]);
+    const unavailable = fit.warnings.filter((w) => w.code === "wald_unavailable");
+    expect(unavailable).toHaveLength(1);
+    expect(unavailable[0]!.message).toMatch(/^standard errors, Wald z statistics, p-values and the covariance matrix are unavailable: no maximum-likelihood estimate exists \(separation\).*Firth's penalised fit/);
+    expect(() => coefficientOf(fit, "x")).toThrow(/^the standard error of x is unavailable, so its estimate cannot be reported \(standard errors, Wald z statistics/);
   });
 
   it("detects quasi-complete separation (tie at the boundary, x = 3 has both outcomes)", () => {
@@ -128,6 +143,8 @@ describe("separation", () => {
     const fit = fitGlm(design, [2, 3, 1, 0, 0, 0], poissonLog);
     expect(fit.separation.kind).not.toBe("none");
     expect(fit.converged).toBe(false);
+    expect(fit.standardErrors).toEqual([null, null]);
+    expect(fit.warnings.find((w) => w.code === "wald_unavailable")?.message).toMatch(/unavailable: no maximum-likelihood estimate exists .*fitted means tend to 0/);
   });
 });
 
@@ -208,8 +225,8 @@ describe("a declared factor-plus-covariates design (year + c + c^2) is fitted th
     expect(viaBlock.iterations).toBe(viaDense.iterations);
     expect(viaBlock.coefficientNames).toEqual(viaDense.coefficientNames);
     expectAllClose(viaBlock.coefficients, viaDense.coefficients, { rtol: 1e-10, atol: 1e-12, label: "coefficients" });
-    expectAllClose(viaBlock.standardErrors, viaDense.standardErrors, { rtol: 1e-10, label: "SE" });
-    expectAllClose(viaBlock.covariance, viaDense.covariance, { rtol: 1e-10, atol: 1e-14, label: "covariance" });
+    expectAllClose(available(viaBlock.standardErrors, "SE"), available(viaDense.standardErrors, "dense SE"), { rtol: 1e-10, label: "SE" });
+    expectAllClose(available(viaBlock.covariance, "covariance"), available(viaDense.covariance, "dense covariance"), { rtol: 1e-10, atol: 1e-14, label: "covariance" });
     for (const key of ["deviance", "nullDeviance", "pearsonChiSquare", "dispersion"] as const) expectClose(viaBlock[key], viaDense[key], { rtol: 1e-12, label: key });
     expect(viaBlock.nullDf).toBe(viaDense.nullDf);
     expect(viaBlock.separation).toEqual(viaDense.separation);

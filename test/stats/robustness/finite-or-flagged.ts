@@ -6,10 +6,12 @@ import type { StatWarning, WarningCode } from "@/lib/stats/warnings";
  * The rule every fit obeys at the edges of valid input: each number it reports is finite, and a
  * fit that did not converge says so with a warning. The one documented exception is a study
  * fitted exactly (leverage 1), whose standardized residual is NaN with an implausible_fit warning
- * naming it (lib/stats/meta/study-diagnostics.ts).
+ * naming it (lib/stats/meta/study-diagnostics.ts). A null is not a number: it marks a quantity
+ * as unavailable (e.g. a GLM's standard errors under separation), and the caller checks where
+ * nulls may appear and that a warning names them.
  */
 
-/** Paths of every number in `value` (objects, arrays, typed arrays) that is NaN or infinite. */
+/** Paths of every number in `value` (objects, arrays, typed arrays) that is NaN or infinite; nulls are skipped. */
 export function nonFinitePaths(value: unknown, path = "result", seen = new Set<unknown>()): string[] {
   if (typeof value === "number") return Number.isFinite(value) ? [] : [`${path} = ${value}`];
   if (value === null || typeof value !== "object" || seen.has(value)) return [];
