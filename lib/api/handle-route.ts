@@ -4,8 +4,10 @@ import { authorize, decide, readableSites, type Action, type ActionTarget, type 
 import { requestActor } from "../auth/request-actor";
 import { getDb } from "../db/client";
 import { readNetworkSettings, type NetworkSettings } from "../settings/network-settings";
+import { AppError } from "../errors/app-error";
 import { errorResponse } from "./error-response";
-import { parseBody, parsePathParams, parseQuery, readFormData, readJsonBody } from "./request-input";
+import { multipartFieldsOf, receiveMultipartUpload, type MultipartUpload } from "./multipart-upload";
+import { parseBody, parsePathParams, parseQuery, readJsonBody } from "./request-input";
 import { resolveTargetSite } from "./route-access";
 import type { RouteDefinition } from "./route-definition";
 
@@ -21,8 +23,11 @@ export interface RouteInput<D extends RouteDefinition> {
   body: Parsed<D["body"]>;
   /** The JSON body's text, for hashing what was sent. */
   bodyText: string | undefined;
-  /** The multipart form of a file upload (read once, before authorization, to find its site). */
-  form: D["multipart"] extends object ? FormData | undefined : undefined;
+  /**
+   * The multipart form of a file upload: its text fields, and its file streamed to a temporary
+   * file (received once, before authorization, to find its site; removed when the handler is done).
+   */
+  form: D["multipart"] extends object ? MultipartUpload | undefined : undefined;
   /** The site a site-scoped route acts on (its id), as resolved for authorization. */
   siteId: D["access"] extends { scope: "site" } ? number : undefined;
   /** For a list of per-site rows: the sites whose rows the actor may read. */
@@ -51,10 +56,12 @@ function isMultipart(request: Request): boolean {
  * exist); asks the policy with the route's declared action (403 with the reason); then calls
  * `handler` and sends its value as JSON with the definition's status (a Response returned by the
  * handler is sent as it is). Every thrown error becomes the AppError JSON reply: bad input 422
- * with field errors, unknown ids 404, never a 500 for bad input.
+ * with field errors, unknown ids 404, never a 500 for bad input. An upload's temporary file is
+ * removed once the reply is made, whatever happened.
  */
 export function handleRoute<D extends RouteDefinition>(definition: D, handler: (input: RouteInput<D>) => Promise<unknown>): RouteHandler {
   return async (request, context) => {
+    let form: MultipartUpload | undefined;
     try {
       const db = getDb();
       const actor = await requestActor(db, request);
@@ -65,9 +72,13 @@ export function handleRoute<D extends RouteDefinition>(definition: D, handler: (
       const query = (definition.query ? parseQuery(request.url, definition.query) : undefined) as Parsed<D["query"]>;
       let body: unknown;
       let bodyText: string | undefined;
-      let form: FormData | undefined;
       if (definition.multipart && isMultipart(request)) {
-        form = await readFormData(request);
+        // Refuse an account that may not do this at any site before it sends a large body to disk.
+        if (access.scope === "site") {
+          const scope = readableSites(actor, access.action, settings);
+          if (!scope.allSites && scope.siteIds.length === 0) throw new AppError("forbidden", scope.reason);
+        }
+        form = await receiveMultipartUpload(request, multipartFieldsOf(definition.multipart.schema));
       } else if (definition.body) {
         if (definition.bodyOptional && !request.headers.get("content-type") && !request.body) {
           body = parseBody({}, definition.body);
@@ -81,7 +92,8 @@ export function handleRoute<D extends RouteDefinition>(definition: D, handler: (
       let siteScope: SiteScope | undefined;
       if (access.scope === "network") authorize(actor, access.action, {}, settings);
       if (access.scope === "site") {
-        siteId = await resolveTargetSite(db, access.site, { params, body, form });
+        // An upload form's text fields name its site as a JSON body's fields do.
+        siteId = await resolveTargetSite(db, access.site, { params, body: form ? Object.fromEntries(form.fields) : body });
         authorize(actor, access.action, { siteId }, settings);
       }
       if (access.scope === "rows") siteScope = readableSites(actor, access.action, settings);
@@ -101,6 +113,8 @@ export function handleRoute<D extends RouteDefinition>(definition: D, handler: (
       return Response.json(result, { status: definition.response.status });
     } catch (error) {
       return errorResponse(error);
+    } finally {
+      await form?.dispose();
     }
   };
 }

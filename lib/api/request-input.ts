@@ -4,7 +4,7 @@ import { AppError } from "../errors/app-error";
 import { zodFieldErrors } from "./zod-field-errors";
 
 /** Room for the multipart framing and the form's text fields beside the file itself. */
-const FORM_OVERHEAD_BYTES = 1024 * 1024;
+export const FORM_OVERHEAD_BYTES = 1024 * 1024;
 
 /**
  * The largest bodies the API reads, from the environment: JSON bodies up to
@@ -34,15 +34,19 @@ function describeBytes(bytes: number): string {
   return mib >= 1 ? `${bytes} bytes (${Number.isInteger(mib) ? mib : mib.toFixed(1)} MiB)` : `${bytes} bytes`;
 }
 
+/** The refusal of a body larger than `limit` (HTTP 413), naming the limit and the variable that sets it. */
+export function bodyTooLarge(what: string, size: string, limit: number, variable: string): AppError {
+  return new AppError("too_large", `the ${what} is ${size}; this server accepts at most ${describeBytes(limit)} (set by ${variable})`, [
+    { field: "(body)", message: `larger than ${limit} bytes` },
+  ]);
+}
+
 /**
  * The body's bytes, refused with AppError too_large (HTTP 413) as soon as they exceed `limit`:
  * from Content-Length before reading anything, or while streaming when it is absent or wrong.
  */
 async function readBodyWithin(request: Request, limit: number, what: string, variable: string): Promise<Uint8Array<ArrayBuffer>> {
-  const refuse = (size: string) =>
-    new AppError("too_large", `the ${what} is ${size}; this server accepts at most ${describeBytes(limit)} (set by ${variable})`, [
-      { field: "(body)", message: `larger than ${limit} bytes` },
-    ]);
+  const refuse = (size: string) => bodyTooLarge(what, size, limit, variable);
   const declared = Number(request.headers.get("content-length") ?? Number.NaN);
   if (declared > limit) throw refuse(`${declared} bytes`);
   if (!request.body) return new Uint8Array(0);
@@ -134,17 +138,4 @@ export function parseBody<S extends z.ZodType>(value: unknown, schema: S): z.out
   const parsed = schema.safeParse(value);
   if (!parsed.success) throw new AppError("invalid_input", "the request body is not valid", zodFieldErrors(parsed.error.issues));
   return parsed.data;
-}
-
-/**
- * A multipart/form-data body; a malformed one is invalid_input, not a server error, and one larger
- * than the upload limit plus room for the other fields is too_large (413, naming the limit).
- */
-export async function readFormData(request: Request, limits: BodyLimits = bodyLimitsFromEnv()): Promise<FormData> {
-  const body = await readBodyWithin(request, limits.formBytes, "upload form", limits.formVariable);
-  try {
-    return await new Response(body, { headers: { "content-type": request.headers.get("content-type") ?? "" } }).formData();
-  } catch (error) {
-    throw new AppError("invalid_input", "the form could not be read as multipart/form-data", [{ field: "(body)", message: (error as Error).message }]);
-  }
 }

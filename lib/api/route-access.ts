@@ -23,7 +23,7 @@ export type RouteAccess =
 export type SiteLocator =
   /** A path parameter holding the site code (/sites/{code}). */
   | { from: "path"; param: string }
-  /** A field of the JSON body, or of the multipart form, holding the site code. */
+  /** A field of the JSON body, or a text field of the multipart form, holding the site code. */
   | { from: "body"; field: string }
   /** A path parameter holding a submission id: the target is the submission's site. */
   | { from: "submission"; param: string };
@@ -31,8 +31,8 @@ export type SiteLocator =
 /** What the request carried, parsed, for finding the target site. */
 export interface LocatorInput {
   params: unknown;
+  /** The JSON body, or the text fields of a multipart form. */
   body: unknown;
-  form: FormData | undefined;
 }
 
 function field(value: unknown, name: string): unknown {
@@ -56,10 +56,8 @@ export async function resolveTargetSite(db: Db, locator: SiteLocator, input: Loc
   switch (locator.from) {
     case "path":
       return siteByCode(db, field(input.params, locator.param), `path.${locator.param}`);
-    case "body": {
-      const fromForm = input.form?.get(locator.field);
-      return siteByCode(db, input.form ? fromForm : field(input.body, locator.field), locator.field);
-    }
+    case "body":
+      return siteByCode(db, field(input.body, locator.field), locator.field);
     case "submission": {
       const id = field(input.params, locator.param);
       const submission = typeof id === "number" ? await db.submission.findUnique({ where: { id }, select: { siteId: true } }) : null;

@@ -105,11 +105,21 @@ export const submissionSchema = z.object({
 });
 export const submissionListSchema = z.object({ items: z.array(submissionSchema) });
 
+export const uploadWarningSchema = z.object({
+  code: z.enum(["unused_columns", "unheaded_columns"]).describe("unused_columns: headings no field is mapped to; unheaded_columns: values under an empty heading."),
+  message: z.string(),
+});
+
 export const submissionWriteResultSchema = z.object({
   submission: submissionSchema,
   supersededId: z.number().int().nullable().describe("The submission this one replaced as the site's current one of its kind."),
   unchanged: z.boolean().describe("True when the rows equal the current submission's: nothing was written (HTTP 200 instead of 201)."),
   recomputeJobId: z.number().int().nullable().describe("The queued recomputation of the site's estimates, if the submission calls for one."),
+  unusedHeadings: z
+    .array(z.string())
+    .optional()
+    .describe("File uploads only: the file's headings that no field is mapped to. Their columns were not read or stored; map a field to one (the form's mapping) to have it read."),
+  warnings: z.array(uploadWarningSchema).optional().describe("File uploads only: the columns that were not read, in words, with how to have them read."),
 });
 
 export const withdrawResultSchema = z.object({
@@ -261,6 +271,7 @@ export const RESPONSE_COMPONENTS: Record<string, z.ZodType> = {
   Submission: submissionSchema,
   SubmissionList: submissionListSchema,
   SubmissionWriteResult: submissionWriteResultSchema,
+  UploadWarning: uploadWarningSchema,
   Job: jobSchema,
   RestoreResult: restoreResultSchema,
   WithdrawResult: withdrawResultSchema,

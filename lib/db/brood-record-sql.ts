@@ -82,14 +82,22 @@ export async function readBroodRecordSnapshots(
     text("recruits"),
     "']'",
   ].join(" || ");
-  let after = 0;
-  for (;;) {
-    const page = await db.$queryRawUnsafe<{ id: number | bigint; k: string; v: string }[]>(
+  const fetchPage = (after: number) =>
+    db.$queryRawUnsafe<{ id: number | bigint; k: string; v: string }[]>(
       `SELECT "id", ${text("year")} || ${separator} || "femaleId" AS k, ${snapshot} AS v FROM "BroodRecord" ` +
         `WHERE "submissionId" = ${Number(submissionId)} AND "id" > ${after} ORDER BY "id" LIMIT ${SNAPSHOT_PAGE_ROWS}`,
     );
-    onPage(page.map((row) => ({ key: row.k, snapshot: row.v })));
-    if (page.length < SNAPSHOT_PAGE_ROWS) return;
-    after = Number(page[page.length - 1]!.id);
+  // The next page is asked for before this one is handed on, so the database reads while we index.
+  for (let pending = fetchPage(0); ; ) {
+    const page = await pending;
+    const full = page.length === SNAPSHOT_PAGE_ROWS;
+    if (full) pending = fetchPage(Number(page[page.length - 1]!.id));
+    try {
+      onPage(page.map((row) => ({ key: row.k, snapshot: row.v })));
+    } catch (error) {
+      if (full) await pending.catch(() => undefined);
+      throw error;
+    }
+    if (!full) return;
   }
 }

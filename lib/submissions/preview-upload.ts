@@ -5,6 +5,7 @@ import type { SubmissionKindName } from "../ingest/schemas/vocabulary";
 import { UPLOAD_FIELDS, type UploadField } from "../ingest/upload-fields";
 import type { ProblemTotals, UploadProblem } from "../ingest/upload-problem";
 import type { UploadSource } from "../ingest/upload-source";
+import { unreadColumnWarnings, type UploadWarning } from "../ingest/unread-columns";
 import { checkUpload, type PreviewRow } from "./check-upload";
 import type { SubmissionDiff } from "./submission-diff";
 import { loadUploadTarget, parseUploadRequest, uploadLimitsFromEnv, uploadRequestSchema, type UploadRequest } from "./upload-request";
@@ -35,6 +36,10 @@ export interface UploadPreview {
   fields: readonly UploadField[];
   /** Which heading feeds which field and where that came from; null without headings. */
   mapping: ProposedMapping | null;
+  /** The file's headings no field reads: their columns will not be stored unless mapped. */
+  unusedHeadings: string[];
+  /** Columns that will not be read (unmapped headings, values under an empty heading), in words. */
+  warnings: UploadWarning[];
   /** Data records in the file, and rows that passed every check. */
   recordCount: number;
   rowCount: number;
@@ -56,7 +61,8 @@ export interface UploadPreview {
 /**
  * Reads and checks an upload without writing anything: the problems (every one counted, the
  * first `limits.maxListedProblems` listed), the first rows as they will be stored, the mapping
- * proposed for the headings, and the diff against the site's current submission of the kind.
+ * proposed for the headings with the columns no field reads, and the diff against the site's
+ * current submission of the kind.
  *
  * `request` is validated with uploadRequestSchema (throws invalid_input); an unknown site
  * throws not_found. Problems with the file are returned, never thrown.
@@ -84,6 +90,8 @@ export async function previewUpload(db: Db, source: UploadSource, request: Uploa
     headings: scan.headings,
     fields: UPLOAD_FIELDS[parsed.kind],
     mapping: scan.proposal,
+    unusedHeadings: scan.proposal?.unusedHeadings ?? [],
+    warnings: unreadColumnWarnings(parsed.kind, scan.proposal, scan.unheadedColumns),
     recordCount: scan.recordCount,
     rowCount: scan.validRowCount,
     problems: scan.problems,

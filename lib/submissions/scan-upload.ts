@@ -10,6 +10,7 @@ import { FrassSeriesCollector, isFrassSeries, readFrassSample, readSiteYear, typ
 import { DuplicateKeyTracker } from "../ingest/validate-rows";
 import { FILE_COLUMN, HEADINGS_COLUMN, ProblemCollector, type ProblemTotals, type UploadProblem } from "../ingest/upload-problem";
 import { UploadFileError, type ByteMeter, type UploadSource } from "../ingest/upload-source";
+import type { UnheadedColumn } from "../ingest/unread-columns";
 import { fitFoodPeakFromFrass } from "./fit-food-peak";
 
 export interface UploadLimits {
@@ -44,6 +45,8 @@ export interface UploadScan {
   headings: string[];
   /** How the headings were matched to fields (null when the file has no headings). */
   proposal: ProposedMapping | null;
+  /** Columns with an empty heading, with how many rows hold a value there (those values are not read). */
+  unheadedColumns: UnheadedColumn[];
   /** Data records read (blank lines not counted). */
   recordCount: number;
   /** Rows that passed every check (site-years fitted from a frass series count once per year). */
@@ -98,12 +101,14 @@ export async function scanUpload<K extends SubmissionKindName>(source: UploadSou
   let tooLarge = false;
   let table: TableInfo | null = null;
   let headingsSeen = false;
+  let unheadedColumns: UnheadedColumn[] = [];
   const rowProblems: UploadProblem[] = [];
 
   const onHeadings = ({ headings: found, line }: { headings: string[]; line: number }) => {
     headingsSeen = true;
     headings = found;
     headingLine = line;
+    unheadedColumns = found.flatMap((h, i) => (h === "" ? [{ column: i + 1, rowsWithValues: 0 }] : []));
     proposal = proposeMapping(settings.kind, found, settings.remembered, settings.mapping);
     const resolved = resolveMapping(settings.kind, found, proposal.mapping, { file, line });
     for (const problem of resolved.problems) collector.add(problem);
@@ -178,6 +183,11 @@ export async function scanUpload<K extends SubmissionKindName>(source: UploadSou
           true,
         );
       }
+      // A value under an empty heading is not read by any field: count it, so the user is told.
+      for (const unheaded of unheadedColumns) {
+        const cell = record.cells[unheaded.column - 1];
+        if (cell !== null && cell !== undefined && String(cell).trim() !== "") unheaded.rowsWithValues += 1;
+      }
       if (!checkShape(record) || !readRow || !columns) continue;
       const reader = new RecordReader(record, columns, context, rowProblems);
       const row = readRow(reader);
@@ -246,6 +256,7 @@ export async function scanUpload<K extends SubmissionKindName>(source: UploadSou
     table,
     headings,
     proposal,
+    unheadedColumns,
     recordCount,
     validRowCount,
     problems: collector.listed,

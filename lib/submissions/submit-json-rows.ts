@@ -3,14 +3,15 @@ import { z } from "zod";
 import type { Db } from "../db/client";
 import type { Actor } from "../auth/actor";
 import { recordAudit } from "../audit/record-audit";
-import { submissionKindSchema } from "../ingest/schemas/vocabulary";
+import { submissionKindSchema, type SubmissionKindName } from "../ingest/schemas/vocabulary";
+import { KIND_RULES } from "../ingest/submission-kind-rules";
 import { enqueueSiteRecompute } from "../jobs/recompute-site-estimates-job";
 import { wakeServerJobRunner } from "../jobs/server-job-runner";
 import { siteCodeSchema } from "../network/site-input";
 import { writeSubmission } from "./write-submission";
 import { getSubmission, type SubmissionSummary } from "./list-submissions";
 import { uploadLimitsFromEnv } from "./upload-request";
-import { AppError } from "../errors/app-error";
+import { AppError, type FieldError } from "../errors/app-error";
 
 /** The most rows one JSON submission may carry. */
 export const MAX_JSON_ROWS = 500_000;
@@ -40,15 +41,40 @@ export interface SubmissionWriteReply {
   recomputeJobId: number | null;
 }
 
+/** The fields a JSON row of `kind` may carry: those of its row schema. */
+function rowFieldsOf(kind: SubmissionKindName): ReadonlySet<string> {
+  const schema = KIND_RULES[kind].schema as unknown as { shape?: Record<string, unknown> };
+  if (!schema.shape) throw new Error(`the row schema of ${kind} has no fields to list`);
+  return new Set(Object.keys(schema.shape));
+}
+
+/** Listed problems for keys no field reads (a misspelt "hatchDate" would otherwise be dropped unseen). */
+function unknownFieldErrors(input: JsonSubmission, listed = 100): FieldError[] {
+  const fields = rowFieldsOf(input.kind);
+  const errors: FieldError[] = [];
+  for (const [index, row] of input.rows.entries()) {
+    for (const key of Object.keys(row)) {
+      if (fields.has(key)) continue;
+      errors.push({ row: index + 1, field: key, file: input.fileName, message: `"${key}" is not a field of a ${input.kind} row (fields: ${[...fields].join(", ")}); nothing was written` });
+      if (errors.length >= listed) return errors;
+    }
+  }
+  return errors;
+}
+
 /**
  * Writes a JSON submission whole or not at all (see writeSubmission), with its audit entry and,
  * as for an uploaded file, the queued recomputation of the site's estimates when it brings brood
  * records (or covariates of a site with brood records). Its SHA-256 is taken over the rows as
  * compact JSON, so sending the same rows again is recognised as unchanged.
- * Throws AppError invalid_input listing every bad row, not_found for an unknown site, too_large
- * for more rows than PHENOPOOL_MAX_UPLOAD_ROWS.
+ * Throws AppError invalid_input listing every bad row and every key no field of the kind reads,
+ * not_found for an unknown site, too_large for more rows than PHENOPOOL_MAX_UPLOAD_ROWS.
  */
 export async function submitJsonRows(db: Db, input: JsonSubmission, actor: Actor): Promise<SubmissionWriteReply> {
+  const unknown = unknownFieldErrors(input);
+  if (unknown.length) {
+    throw new AppError("invalid_input", `${input.fileName}: rows carry fields a ${input.kind} row does not have (first: "${unknown[0]!.field}" in row ${unknown[0]!.row}); nothing was written`, unknown);
+  }
   const { maxRows } = uploadLimitsFromEnv();
   if (input.rows.length > maxRows) {
     throw new AppError("too_large", `${input.fileName} has ${input.rows.length} rows; this server accepts at most ${maxRows} rows in one submission (set by PHENOPOOL_MAX_UPLOAD_ROWS); nothing was written`, [

@@ -2,7 +2,8 @@ import { z } from "zod";
 import type { Db } from "../db/client";
 import type { Actor } from "../auth/actor";
 import { AppError } from "../errors/app-error";
-import { uploadSourceFromBytes } from "../ingest/upload-source";
+import { uploadSourceFromFile } from "../ingest/upload-source";
+import type { UploadWarning } from "../ingest/unread-columns";
 import { delimiterSchema } from "../ingest/read-upload-table";
 import { submissionKindSchema } from "../ingest/schemas/vocabulary";
 import { acceptUpload } from "./accept-upload";
@@ -26,20 +27,40 @@ export const uploadFormSchema = z.object({
   expectedCurrentSubmissionId: z.string().optional(),
 });
 
-const text = (form: FormData, name: string): string | undefined => {
-  const value = form.get(name);
-  return typeof value === "string" && value.trim() !== "" ? value : undefined;
+/**
+ * A received upload form: its text fields by name and its file, already on disk (the API streams
+ * the file part to a temporary file; see lib/api/multipart-upload.ts).
+ */
+export interface UploadFormInput {
+  fields: ReadonlyMap<string, string>;
+  file: { path: string; fileName: string; byteCount: number } | null;
+}
+
+/** The reply to an accepted upload form: the stored submission, and the file's columns that were not read. */
+export interface UploadFormReply extends SubmissionWriteReply {
+  /** The file's headings that no field reads: their columns were not stored. */
+  unusedHeadings: string[];
+  warnings: UploadWarning[];
+}
+
+const text = (form: UploadFormInput, name: string): string | undefined => {
+  const value = form.fields.get(name);
+  return value !== undefined && value.trim() !== "" ? value : undefined;
 };
 
 /**
  * Accepts an uploaded file from a form (see acceptUpload: checked in full first, then written whole
- * or not at all). Throws AppError invalid_input for a missing file or a malformed field, and
- * whatever acceptUpload throws (every problem of the file, not_found, conflict, too_large).
+ * or not at all), read from its file on disk. Throws AppError invalid_input for a missing file or
+ * a malformed field, and whatever acceptUpload throws (every problem of the file, not_found,
+ * conflict, too_large).
  */
-export async function acceptUploadForm(db: Db, form: FormData, actor: Actor): Promise<SubmissionWriteReply> {
-  const file = form.get("file");
-  if (!(file instanceof Blob)) throw new AppError("invalid_input", "attach the file as the form field 'file'", [{ field: "file", message: "required" }]);
-  const fileName = file instanceof File && file.name ? file.name : "upload";
+export async function acceptUploadForm(db: Db, form: UploadFormInput, actor: Actor): Promise<UploadFormReply> {
+  const file = form.file;
+  // A browser sends an empty, unnamed file part when no file was chosen.
+  if (!file || (file.fileName === "" && file.byteCount === 0)) {
+    throw new AppError("invalid_input", "attach the file as the form field 'file'", [{ field: "file", message: "required" }]);
+  }
+  const fileName = file.fileName || "upload";
   let mapping: unknown;
   const mappingText = text(form, "mapping");
   if (mappingText !== undefined) {
@@ -53,7 +74,7 @@ export async function acceptUploadForm(db: Db, form: FormData, actor: Actor): Pr
   const decimalComma = text(form, "decimalComma");
   const result = await acceptUpload(
     db,
-    uploadSourceFromBytes(fileName, new Uint8Array(await file.arrayBuffer())),
+    uploadSourceFromFile(file.path, fileName),
     {
       siteCode: text(form, "siteCode") ?? "",
       kind: text(form, "kind") as "brood_records",
@@ -66,5 +87,12 @@ export async function acceptUploadForm(db: Db, form: FormData, actor: Actor): Pr
     },
     actor,
   );
-  return { submission: await getSubmission(db, result.submissionId), supersededId: result.supersededId, unchanged: result.unchanged, recomputeJobId: result.job?.id ?? null };
+  return {
+    submission: await getSubmission(db, result.submissionId),
+    supersededId: result.supersededId,
+    unchanged: result.unchanged,
+    recomputeJobId: result.job?.id ?? null,
+    unusedHeadings: result.unusedHeadings,
+    warnings: result.warnings,
+  };
 }

@@ -11,8 +11,11 @@ import type { SubmissionKindName } from "../ingest/schemas/vocabulary";
  * file), handed to the writer in batches so a large file never sits in memory whole.
  */
 export interface ValidatedRowStream<K extends SubmissionKindName = SubmissionKindName> {
-  /** How many rows the stream will give; the write is abandoned if it gives another number. */
-  rowCount: number;
+  /**
+   * How many rows the stream will give (the write is abandoned if it gives another number), or
+   * null when they are counted as they are written (a file checked while it is written).
+   */
+  rowCount: number | null;
   /** Calls `insert` with each batch of rows in order; throwing abandons the whole write. */
   stream: (insert: (rows: readonly RowsOfKind[K][]) => Promise<void>) => Promise<void>;
 }
@@ -150,23 +153,38 @@ export async function writeSubmission(db: Db, input: WriteSubmissionInput): Prom
           kind: input.kind,
           fileName: input.fileName,
           sha256: input.sha256,
-          rowCount: validated.rowCount,
+          rowCount: validated.rowCount ?? 0,
           submittedById: input.submittedById ?? null,
           status: "accepted",
           supersedesId: current?.id ?? null,
         },
         select: { id: true },
       });
+      // One batch is written while the next is read and checked: on PostgreSQL the server inserts
+      // while this process parses, so a large file takes about the longer of the two, not their sum.
       let written = 0;
-      await validated.stream(async (rows) => {
-        written += rows.length;
-        await insertBatch(tx, provider, input.kind, site.id, created.id, rows);
-      });
-      if (written !== validated.rowCount) {
+      const pipeline: { inFlight: Promise<void> | null } = { inFlight: null };
+      try {
+        await validated.stream(async (rows) => {
+          if (pipeline.inFlight) await pipeline.inFlight;
+          written += rows.length;
+          pipeline.inFlight = insertBatch(tx, provider, input.kind, site.id, created.id, rows);
+          // Awaited before the next batch or below; until then a failure must not count as unhandled.
+          pipeline.inFlight.catch(() => undefined);
+        });
+      } catch (error) {
+        // Let the statement under way finish before the transaction is rolled back.
+        await pipeline.inFlight?.catch(() => undefined);
+        throw error;
+      }
+      await pipeline.inFlight;
+      if (validated.rowCount === null) {
+        await tx.submission.update({ where: { id: created.id }, data: { rowCount: written } });
+      } else if (written !== validated.rowCount) {
         throw new AppError("conflict", `${input.fileName}: the file gave ${written} rows on writing, ${validated.rowCount} when checked; nothing was written`);
       }
       await input.alsoInTransaction?.(tx, { siteId: site.id, submissionId: created.id, supersededId: current?.id ?? null });
-      return { submissionId: created.id, supersededId: current?.id ?? null, unchanged: false, rowCount: validated.rowCount };
+      return { submissionId: created.id, supersededId: current?.id ?? null, unchanged: false, rowCount: written };
     },
     { timeout: TRANSACTION_TIMEOUT_MS, maxWait: TRANSACTION_MAX_WAIT_MS },
   );

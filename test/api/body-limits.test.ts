@@ -1,11 +1,12 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { apiRoutes } from "@/lib/api/routes";
-import { bodyLimitsFromEnv, readFormData, readJsonBody, type BodyLimits } from "@/lib/api/request-input";
+import { receiveMultipartUpload } from "@/lib/api/multipart-upload";
+import { bodyLimitsFromEnv, readJsonBody, type BodyLimits } from "@/lib/api/request-input";
 import { DEFAULT_MAX_JSON_BODY_BYTES, DEFAULT_MAX_UPLOAD_BYTES, readEnv } from "@/lib/config/env";
 import { getDb } from "@/lib/db/client";
-import { AppError } from "@/lib/errors/app-error";
 import { callRoute, signInTestCoordinator } from "@/test/api/call-route";
 import { createTestDatabase, type TestDatabase } from "@/test/helpers/test-databases";
+import { refusal } from "@/test/helpers/app-error-refusal";
 
 /**
  * The API's request body limits: set from the environment, refused with HTTP 413 (RFC 9110
@@ -24,15 +25,6 @@ function streamed(text: string, chunk = 16): ReadableStream<Uint8Array> {
       at += chunk;
     },
   });
-}
-
-async function refusal(promise: Promise<unknown>): Promise<AppError> {
-  const error = await promise.then(
-    () => null,
-    (e: unknown) => e,
-  );
-  expect(error).toBeInstanceOf(AppError);
-  return error as AppError;
 }
 
 describe("request body limits", () => {
@@ -78,12 +70,15 @@ describe("request body limits", () => {
     const form = new FormData();
     form.set("file", new File(["f".repeat(1000)], "big.csv"));
     const request = new Request("http://localhost/api", { method: "POST", body: form });
-    const error = await refusal(readFormData(request, limits));
+    const fields = { file: "file", text: ["siteCode"] };
+    const error = await refusal(receiveMultipartUpload(request, fields, limits));
     expect(error.code).toBe("too_large");
     expect(error.message).toBe("the upload form is more than 400 bytes; this server accepts at most 400 bytes (set by PHENOPOOL_MAX_UPLOAD_BYTES)");
     const ok = new FormData();
     ok.set("siteCode", "OAK");
-    expect((await readFormData(new Request("http://localhost/api", { method: "POST", body: ok }), limits)).get("siteCode")).toBe("OAK");
+    const received = await receiveMultipartUpload(new Request("http://localhost/api", { method: "POST", body: ok }), fields, limits);
+    expect(received.fields.get("siteCode")).toBe("OAK");
+    await received.dispose();
   });
 });
 

@@ -56,8 +56,8 @@ export interface CallOptions {
   query?: Record<string, string | string[]>;
   /** A JSON body (sent with Content-Type application/json). */
   json?: unknown;
-  /** A raw body with its own content type. */
-  raw?: { body: string; contentType: string };
+  /** A raw body with its own content type; a stream is sent as it comes (no Content-Length). */
+  raw?: { body: string | ReadableStream<Uint8Array>; contentType: string };
   /** A multipart/form-data body. */
   form?: FormData;
 }
@@ -87,9 +87,10 @@ export async function callRoute(route: RouteDefinition, options: CallOptions = {
   const url = new URL(`http://localhost${path}`);
   for (const [name, value] of Object.entries(options.query ?? {})) for (const v of [value].flat()) url.searchParams.append(name, v);
   const headers: Record<string, string> = callerHeaders(options.as ?? defaultCaller);
-  const init: RequestInit = { method: route.method, headers };
+  const init: RequestInit & { duplex?: "half" } = { method: route.method, headers };
   if (options.json !== undefined) init.body = JSON.stringify(options.json);
   if (options.raw) init.body = options.raw.body;
+  if (init.body instanceof ReadableStream) init.duplex = "half";
   if (init.body !== undefined) headers["content-type"] = options.raw?.contentType ?? "application/json";
   if (options.form) init.body = options.form;
   const response = await handler(new Request(url, init), { params: Promise.resolve(options.params ?? {}) });

@@ -131,6 +131,11 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     expect(bad.status).toBe(422);
     expect(bad.body.error.fieldErrors).toEqual([{ row: 2, field: "fledglings", message: "fledglings 9 exceeds clutch size 7", file: "submission.json", value: "9" }]);
     expect((await callRoute(apiRoutes.createSubmission, { json: { siteCode: "ELM", kind: "brood_records", rows } })).status).toBe(404);
+    // A key no field reads (hatchDate for hatchDateDoy) is refused, not dropped.
+    const misspelt = await callRoute(apiRoutes.createSubmission, { json: { siteCode: "OAK", kind: "brood_records", rows: [brood("F-1"), { ...brood("F-2"), hatchDate: 140 }] } });
+    expect(misspelt.status).toBe(422);
+    expect(misspelt.body.error.fieldErrors).toEqual([expect.objectContaining({ row: 2, field: "hatchDate", message: expect.stringMatching(/^"hatchDate" is not a field of a brood_records row \(fields: year, femaleId, layDateDoy, clutchSize, hatchDateDoy, fledglings, recruits\)/) })]);
+    expect((await callRoute(apiRoutes.listSubmissions, { query: { site: "OAK" } })).body.items.length).toBe(1);
     // Site-level estimates of recruitment for the analysis below (values of test/fixtures/r-stats/analysis-run-wls.json).
     const estimates: [string, number, number, string?][] = [["OAK", -0.12, 0.04, "=HYPERLINK(\"http://example.org\")"], ["BIR", -0.045, 0.025], ["PIN", -0.21, 0.06], ["ASH", -0.08, 0.035]];
     for (const [code, value, se, method] of estimates) {
@@ -160,6 +165,32 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     const missing = await callRoute(apiRoutes.createSubmission, { form: noFile });
     expect(missing.status).toBe(422);
     expect(missing.body.error.fieldErrors[0].field).toBe("file");
+  });
+
+  it("accepts a file with a column no field reads, and names that column in the reply; mapped, it is read", async () => {
+    // "hatching day" is meant as the hatch date, but is none of that field's names or aliases.
+    const csv = "female,year,lay date,clutch size,hatching day,fledged,recruits\nB-1,2010,121,8,135,6,1\nB-2,2010,125,7,139,5,0\n";
+    const form = (mapping?: string) => {
+      const data = new FormData();
+      data.set("file", new File([csv], "bir-hatching.csv", { type: "text/csv" }));
+      data.set("siteCode", "BIR");
+      data.set("kind", "brood_records");
+      if (mapping) data.set("mapping", mapping);
+      return data;
+    };
+    const unmapped = await callRoute(apiRoutes.createSubmission, { form: form() });
+    expect(unmapped.status).toBe(201);
+    expect(unmapped.body.unusedHeadings).toEqual(["hatching day"]);
+    expect(unmapped.body.warnings).toHaveLength(1);
+    expect(unmapped.body.warnings[0].code).toBe("unused_columns");
+    expect(unmapped.body.warnings[0].message).toMatch(/^the column "hatching day" was not read: no field is mapped to it, so its values are not stored\. To read it, map a field to its heading in the column mapping .*hatch date \(hatchDate\)/);
+    const stored = await callRoute(apiRoutes.listBroodRecords, { query: { site: "BIR" } });
+    expect(stored.body.items.map((b: { hatchDateDoy: number | null }) => b.hatchDateDoy)).toEqual([null, null]);
+    const mapped = await callRoute(apiRoutes.createSubmission, { form: form(JSON.stringify({ hatchDate: "hatching day" })) });
+    expect(mapped.status).toBe(201);
+    expect(mapped.body).toMatchObject({ unusedHeadings: [], warnings: [] });
+    const read = await callRoute(apiRoutes.listBroodRecords, { query: { site: "BIR" } });
+    expect(read.body.items.map((b: { femaleId: string; hatchDateDoy: number | null }) => [b.femaleId, b.hatchDateDoy])).toEqual([["B-1", 135], ["B-2", 139]]);
   });
 
   it("restores a superseded submission as a new current one; restoring the current one is 409", async () => {

@@ -2,7 +2,6 @@ import { readFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import ExcelJS from "exceljs";
 import type { Actor } from "@/lib/auth/actor";
-import { AppError } from "@/lib/errors/app-error";
 import { problemsToCsv } from "@/lib/ingest/upload-problem";
 import { uploadSourceFromBytes, type UploadSource } from "@/lib/ingest/upload-source";
 import { acceptUpload } from "@/lib/submissions/accept-upload";
@@ -13,20 +12,12 @@ import { expectClose } from "@/test/helpers/expect-close";
 import { createTestDatabase, testProviders, type TestDatabase } from "@/test/helpers/test-databases";
 import { tableCounts } from "./table-counts";
 import frassReference from "@/test/fixtures/r-stats/frass-upload-series.json";
+import { refusal } from "@/test/helpers/app-error-refusal";
 
 const providers = await testProviders();
 const LIMITS: UploadLimits = { maxBytes: 1 << 20, maxRows: 10_000, maxListedProblems: 1_000 };
 const actor: Actor = { kind: "user", userId: null, role: "coordinator", label: "test coordinator", siteIds: [], via: "none" };
 const csv = (name: string, text: string) => uploadSourceFromBytes(name, text);
-
-async function refusal(promise: Promise<unknown>): Promise<AppError> {
-  const error = await promise.then(
-    () => null,
-    (e: unknown) => e,
-  );
-  expect(error).toBeInstanceOf(AppError);
-  return error as AppError;
-}
 
 describe.each(providers)("uploading files on %s", (provider) => {
   let database: TestDatabase;
@@ -274,7 +265,7 @@ describe.each(providers)("uploading files on %s", (provider) => {
     expect(await counts()).toEqual(before);
   });
 
-  it("writes nothing when the file changes between checking and writing", async () => {
+  it("writes nothing when the file changes between its readings", async () => {
     const before = await counts();
     let opened = 0;
     const good = "year,female,lay date,clutch,fledged,recruits\n2015,F-1,105,9,7,1\n2015,F-2,105,9,7,1\n";

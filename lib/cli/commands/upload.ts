@@ -118,8 +118,9 @@ function printPreview(preview: UploadPreview, io: CliIo): void {
   if (preview.mapping) {
     const used = Object.entries(preview.mapping.mapping).map(([field, heading]) => `${field} <- "${heading}" (${preview.mapping!.sources[field]})`);
     io.stdout(`Columns: ${used.join(", ") || "none mapped"}\n`);
-    if (preview.mapping.unusedHeadings.length) io.stdout(`Not used: ${preview.mapping.unusedHeadings.map((h) => `"${h}"`).join(", ")}\n`);
   }
+  // Columns no field reads, named or without a heading: their values would not be stored.
+  for (const w of preview.warnings) io.stdout(`Note: ${w.message}\n`);
   io.stdout(`${preview.recordCount} data rows read, ${preview.rowCount} passed every check.\n`);
   for (const same of preview.sameBytes) {
     io.stdout(`The same bytes were uploaded before as submission ${same.submissionId} (${same.status}, ${same.submittedAt.toISOString().slice(0, 10)}).\n`);

@@ -3,6 +3,7 @@
 import { startTransition, useActionState, useState, type FormEvent } from "react";
 import { acceptUploadAction, previewUploadAction, type AcceptState, type PreviewState } from "./actions";
 import { FormMessage } from "../../../_components/form-message";
+import { UnreadColumnsNote } from "./unread-columns-note";
 
 const KINDS: [string, string][] = [
   ["brood_records", "Brood records"],
@@ -59,6 +60,7 @@ export function UploadForm({ siteCode, dateConvention }: { siteCode: string; dat
         <fieldset>
           <legend>Columns</legend>
           <p className="muted">Which of your headings holds each field. The choice is remembered for this site.</p>
+          <UnreadColumnsNote unusedHeadings={result.unusedHeadings} warnings={result.warnings} />
           {result.fields.map((f) => (
             <div key={`${result.sha256}-${f.name}`} className="map-row">
               <label htmlFor={`map-${f.name}`}>{f.label}{f.required ? " (required)" : ""}</label>
@@ -88,6 +90,7 @@ export function UploadForm({ siteCode, dateConvention }: { siteCode: string; dat
             ? "The file is identical to the site's current one: nothing was written."
             : `Accepted as submission ${acceptState.accepted.submissionId} (${acceptState.accepted.rowCount} rows).`}
           {acceptState.accepted.job ? ` The site's estimates are being recomputed (job ${acceptState.accepted.job.id}); the site page shows them when done.` : ""}
+          {acceptState.accepted.warnings.map((w) => ` Note: ${w.message}`).join("")}
         </p>
       ) : null}
       {result ? <PreviewReport preview={result} /> : null}
