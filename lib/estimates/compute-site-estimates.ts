@@ -13,7 +13,9 @@ import { designMatrix } from "../stats/linear/design-matrix";
 import { coefficientOf, type GlmResult } from "../stats/glm/glm-result";
 import { ModelInputError } from "../stats/model-error";
 import { fitWeightedLeastSquares } from "../stats/regression/fit-weighted-least-squares";
-import { fitSelectionGradients } from "../stats/selection/fit-selection-gradients";
+import { selectionGradientSteps } from "../stats/selection/fit-selection-gradients";
+import { OUTCOME_LABELS } from "../format/vocabulary-labels";
+import { asPhase, runToCompletion, type Stepwise } from "../stats/stepwise";
 import { warning, type StatWarning } from "../stats/warnings";
 import { BROOD_OUTCOMES, type BroodOutcome } from "./brood-outcomes";
 import type { BroodForEstimates, ComputedEstimate, RefusedEstimate } from "./estimate-types";
@@ -87,6 +89,26 @@ export function computeSiteEstimates(
   foodPeaks: ReadonlyMap<number, number>,
   options: SiteEstimateOptions = {},
 ): SiteEstimates {
+  return runToCompletion(siteEstimateSteps(broods, foodPeaks, options));
+}
+
+/**
+ * Time of one bootstrap replicate of the selection gradients relative to one pass of the mismatch
+ * GLMs over the same broods, for progress only. Measured on 90,000 simulated broods in 30 years:
+ * the 8 GLM passes took about 0.65 s, 1,000 replicates about 14 s.
+ */
+const REPLICATE_WORK_PER_GLM_PASS = 0.2;
+
+/**
+ * computeSiteEstimates as a stepwise computation (lib/stats/stepwise.ts): a step after each model
+ * fit and each block of bootstrap replicates, with the fraction of the site's work done. The
+ * estimates are the same however the steps are driven.
+ */
+export function* siteEstimateSteps(
+  broods: readonly BroodForEstimates[],
+  foodPeaks: ReadonlyMap<number, number>,
+  options: SiteEstimateOptions = {},
+): Stepwise<SiteEstimates> {
   const basis = options.basis ?? "lay_date";
   const offsetDays = basis === "lay_date" ? (options.offsetDays ?? DEFAULT_MISMATCH_OFFSET_DAYS) : (options.nestlingAgeDays ?? DEFAULT_NESTLING_AGE_AT_PEAK_DEMAND_DAYS);
   const minimumBroods = options.minimumBroodsPerYear ?? DEFAULT_MINIMUM_BROODS_PER_YEAR;
@@ -110,9 +132,17 @@ export function computeSiteEstimates(
   const slotOf = new Int32Array(usable.length);
   for (let i = 0; i < usable.length; i += 1) slotOf[i] = yearSlotOf.get(yearOf[i]!)!;
 
+  // Progress: the mismatch models first (one step per fit), then the bootstrap of the gradients.
+  const withSelection = options.selectionGradients ?? true;
+  const replicates = options.bootstrapReplicates ?? 1000;
+  const glmPasses = 2 * BROOD_OUTCOMES.length; // each outcome: all years together, then year by year
+  const mismatchShare = withSelection ? glmPasses / (glmPasses + REPLICATE_WORK_PER_GLM_PASS * replicates) : 1;
+  const fitsPerOutcome = 1 + yearsUsed.length;
+  const totalFits = BROOD_OUTCOMES.length * fitsPerOutcome;
+
   const designs: DesignCache = new Map();
   const selected = new Int32Array(usable.length);
-  for (const outcome of BROOD_OUTCOMES) {
+  for (const [outcomeIndex, outcome] of BROOD_OUTCOMES.entries()) {
     let count = 0;
     for (let i = 0; i < usable.length; i += 1) if (outcome.includes(usable[i]!)) selected[count++] = i;
     const data: MismatchModelData = {
@@ -165,8 +195,17 @@ export function computeSiteEstimates(
         });
       }
     };
+    const step = (fitsDone: number, what: string) => ({
+      fraction: (mismatchShare * fitsDone) / totalFits,
+      message: `fitting ${OUTCOME_LABELS[outcome.name].toLowerCase()}, ${what} (${fitsDone} of ${totalFits} models)`,
+    });
     record(null);
-    for (let slot = 0; slot < yearsUsed.length; slot += 1) if (broodsInYear[slot]! > 0) record(slot);
+    yield step(outcomeIndex * fitsPerOutcome + 1, "all years");
+    for (let slot = 0; slot < yearsUsed.length; slot += 1) {
+      if (broodsInYear[slot]! === 0) continue;
+      record(slot);
+      yield step(outcomeIndex * fitsPerOutcome + 2 + slot, String(yearsUsed[slot]));
+    }
 
     // Between-year effect: annual mean outcome on annual mean mismatch, weighted by broods.
     const perYear = new Map<number, { count: number; sum: number }>();
@@ -210,13 +249,16 @@ export function computeSiteEstimates(
     }
   }
 
-  if (options.selectionGradients ?? true) {
-    const replicates = options.bootstrapReplicates ?? 1000;
+  if (withSelection) {
     const seed = options.seed ?? 1;
     try {
-      const selection = fitSelectionGradients(
-        { year: broods.map((b) => b.year), trait: broods.map((b) => b.layDateDoy), fitness: broods.map((b) => b.recruits) },
-        { bootstrapReplicates: replicates, seed },
+      const selection = yield* asPhase(
+        selectionGradientSteps(
+          { year: broods.map((b) => b.year), trait: broods.map((b) => b.layDateDoy), fitness: broods.map((b) => b.recruits) },
+          { bootstrapReplicates: replicates, seed },
+        ),
+        mismatchShare,
+        1,
       );
       const method =
         `Definitions: relative fitness = recruits / that year's mean recruits (years where nobody recruited are dropped); trait = lay date standardised within the year (mean 0, SD 1); ${DATES}. ` +

@@ -3,7 +3,8 @@ import { AppError } from "../errors/app-error";
 import { readNetworkSettings } from "../settings/network-settings";
 import { ModelInputError } from "../stats/model-error";
 import { fitWarmingRate, type WarmingRateResult } from "../stats/phenology/fit-warming-rate";
-import { computeSiteEstimates, type SiteEstimateOptions } from "./compute-site-estimates";
+import { runInSlices, type ComputationStep } from "../stats/stepwise";
+import { siteEstimateSteps, type SiteEstimateOptions } from "./compute-site-estimates";
 import type { RefusedEstimate } from "./estimate-types";
 import type { MismatchBasis } from "./mismatch";
 import type { StatWarning } from "../stats/warnings";
@@ -15,7 +16,20 @@ export interface RecomputeOptions {
   basis?: MismatchBasis;
   bootstrapReplicates?: number;
   seed?: number;
+  /**
+   * Told where the recomputation has got (fraction of the whole, and what it is doing) after
+   * each slice of model fits and bootstrap blocks; may throw to stop it before anything is written.
+   */
+  onStep?: (step: ComputationStep) => Promise<void>;
+  /** Stops the recomputation between steps; nothing is written then. */
+  signal?: AbortSignal;
+  /** Longest stretch of model fitting between two reports to `onStep` (default 100 ms; see runInSlices). */
+  sliceMs?: number;
 }
+
+/** Fractions of a recomputation: reading the site's data, then the models, then writing. */
+const READ_SHARE = 0.05;
+const WRITE_SHARE = 0.05;
 
 export interface RecomputeReport {
   siteId: number;
@@ -61,6 +75,7 @@ export async function recomputeSiteEstimates(db: Db, siteId: number, options: Re
   const broodSubmission = await db.submission.findFirst({ where: { siteId, kind: "brood_records", status: "accepted" }, select: { id: true } });
   if (!broodSubmission) throw new AppError("cannot_compute", `site ${site.code} has no accepted brood-record submission to compute estimates from`);
   const yearSubmission = await db.submission.findFirst({ where: { siteId, kind: "site_year_covariates", status: "accepted" }, select: { id: true } });
+  await options.onStep?.({ fraction: 0, message: `reading the brood records of submission ${broodSubmission.id}` });
   const broods = await db.broodRecord.findMany({
     where: { submissionId: broodSubmission.id },
     select: { year: true, femaleId: true, layDateDoy: true, hatchDateDoy: true, clutchSize: true, fledglings: true, recruits: true },
@@ -81,7 +96,11 @@ export async function recomputeSiteEstimates(db: Db, siteId: number, options: Re
   };
   let computed;
   try {
-    computed = computeSiteEstimates(broods, foodPeaks, estimateOptions);
+    computed = await runInSlices(siteEstimateSteps(broods, foodPeaks, estimateOptions), {
+      signal: options.signal,
+      sliceMs: options.sliceMs,
+      onStep: async (step) => options.onStep?.({ fraction: READ_SHARE + (1 - READ_SHARE - WRITE_SHARE) * step.fraction, message: step.message }),
+    });
   } catch (error) {
     if (error instanceof ModelInputError) throw new AppError("cannot_compute", `site ${site.code}: ${error.message}`);
     throw error;
@@ -105,6 +124,8 @@ export async function recomputeSiteEstimates(db: Db, siteId: number, options: Re
     warming = { written: false, reason: error.message };
   }
 
+  await options.onStep?.({ fraction: 1 - WRITE_SHARE, message: `writing ${computed.estimates.length} estimates` });
+  options.signal?.throwIfAborted();
   const report = await db.$transaction(
     async (tx) => {
       const removed = await tx.estimate.deleteMany({ where: { siteId, source: "computed" } });

@@ -26,9 +26,10 @@ export async function enqueueSiteRecompute(db: Db | DbTransaction, payload: Reco
 
 export const recomputeSiteEstimatesJob: JobHandler = async (context) => {
   const payload = recomputeJobPayloadSchema.parse(context.payload);
-  await context.progress(0.05, "fitting the site's models");
-  const report = await recomputeSiteEstimates(context.db, payload.siteId);
-  context.signal.throwIfAborted();
+  const report = await recomputeSiteEstimates(context.db, payload.siteId, {
+    signal: context.signal,
+    onStep: (step) => context.progress(step.fraction, step.message),
+  });
   const refused = report.refused.length ? `; ${report.refused.length} refused` : "";
   await context.progress(1, `${report.estimatesWritten} estimates computed from submission ${report.submissionId}${refused}`);
   return {

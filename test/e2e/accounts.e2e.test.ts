@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, Page } from "playwright-core";
-import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
+import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type RunningApp } from "./harness";
 
 /**
  * Accounts, roles and the audit trail in the production build on the demo network: the sign-in
@@ -8,17 +8,6 @@ import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } fr
  * the lead's own site only and stops when revoked, and the coordinator sees it all in the audit
  * trail and its CSV export.
  */
-async function signInAs(page: Page, app: RunningApp, role: string): Promise<{ email: string }> {
-  const account = app.accounts.find((a) => a.role === role);
-  if (!account) throw new Error(`no demo ${role} account`);
-  await page.goto(`${app.baseUrl}/sign-in`);
-  await page.getByLabel("Email").fill(account.email);
-  await page.getByLabel("Password").fill(account.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${app.baseUrl}/`);
-  return account;
-}
-
 const estimateRow = { outcome: "recruitment", level: "within_year", term: "linear", year: null, value: -0.07, standardError: 0.03, n: 90, scale: "per_day", link: "logit", method: "Wald" };
 
 describe("accounts, roles and the audit trail on the demo network", () => {

@@ -1,16 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
-
-async function signIn(page: Page, app: RunningApp, role: string): Promise<void> {
-  const account = app.accounts.find((a) => a.role === role);
-  if (!account) throw new Error(`no demo ${role} account`);
-  await page.goto(`${app.baseUrl}/sign-in`);
-  await page.getByLabel("Email").fill(account.email);
-  await page.getByLabel("Password").fill(account.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${app.baseUrl}/`);
-}
+import type { Browser } from "playwright-core";
+import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type RunningApp } from "./harness";
 
 describe("the coordinator builds and runs an analysis on the demo network", () => {
   let app: RunningApp;
@@ -29,7 +19,7 @@ describe("the coordinator builds and runs an analysis on the demo network", () =
     const errors = watchConsole(page);
     await page.goto(`${app.baseUrl}/sign-in`);
     await expect(page.getByText("demo network").first().isVisible()).resolves.toBe(true);
-    await signIn(page, app, "coordinator");
+    await signInAs(page, app, "coordinator");
     await screenshot(page, "network-demo");
 
     await page.goto(`${app.baseUrl}/analyses/new`);

@@ -163,3 +163,20 @@ export async function screenshot(page: Page, name: string): Promise<void> {
   mkdirSync(ARTIFACTS, { recursive: true });
   await page.screenshot({ path: join(ARTIFACTS, `${name}.png`), fullPage: true });
 }
+
+/** Signs `page` in through the sign-in page as the demo account of `role`; returns that account. */
+export async function signInAs(page: Page, app: RunningApp, role: string): Promise<DemoAccount> {
+  const account = app.accounts.find((a) => a.role === role);
+  if (!account) throw new Error(`no demo ${role} account`);
+  await signInWith(page, app, account);
+  return account;
+}
+
+/** Signs `page` in through the sign-in page with `account`'s email and password. */
+export async function signInWith(page: Page, app: RunningApp, account: Pick<DemoAccount, "email" | "password">): Promise<void> {
+  await page.goto(`${app.baseUrl}/sign-in`);
+  await page.getByLabel("Email").fill(account.email);
+  await page.getByLabel("Password").fill(account.password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL(`${app.baseUrl}/`);
+}

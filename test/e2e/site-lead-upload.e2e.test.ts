@@ -4,7 +4,7 @@ import { join } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser } from "playwright-core";
 import { createDb, type Db } from "@/lib/db/client";
-import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
+import { launchBrowser, screenshot, signInWith, startApp, watchConsole, type RunningApp } from "./harness";
 import { waitFor } from "./wait-for";
 
 describe("a site lead uploads brood records", () => {
@@ -47,11 +47,7 @@ describe("a site lead uploads brood records", () => {
 
     const page = await browser.newPage();
     const errors = watchConsole(page);
-    await page.goto(`${app.baseUrl}/sign-in`);
-    await page.getByLabel("Email").fill(lead.email);
-    await page.getByLabel("Password").fill(lead.password);
-    await page.getByRole("button", { name: "Sign in" }).click();
-    await page.waitForURL(`${app.baseUrl}/`);
+    await signInWith(page, app, lead);
     await page.goto(`${app.baseUrl}/sites/${site.code}`);
     await page.getByRole("link", { name: "Upload a file" }).click();
     await page.waitForURL(/\/upload$/);

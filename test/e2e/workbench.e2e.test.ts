@@ -4,7 +4,7 @@ import { join } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, Page } from "playwright-core";
 import { createDb, type Db } from "@/lib/db/client";
-import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
+import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type RunningApp } from "./harness";
 import { waitFor } from "./wait-for";
 import { accessibilityProblems } from "./accessibility";
 
@@ -32,12 +32,7 @@ describe("the browser workbench", () => {
     db = createDb(app.databaseUrl);
     page = await browser.newPage({ acceptDownloads: true, viewport: { width: 1280, height: 900 } });
     errors = watchConsole(page);
-    const coordinator = app.accounts.find((a) => a.role === "coordinator")!;
-    await page.goto(`${app.baseUrl}/sign-in`);
-    await page.getByLabel("Email").fill(coordinator.email);
-    await page.getByLabel("Password").fill(coordinator.password);
-    await page.getByRole("button", { name: "Sign in" }).click();
-    await page.waitForURL(`${app.baseUrl}/`);
+    await signInAs(page, app, "coordinator");
   });
   afterAll(async () => {
     await db?.$disconnect();
@@ -194,8 +189,7 @@ describe("the browser workbench", () => {
     await page.getByRole("link", { name: "show trim-and-fill" }).click();
     await page.waitForURL(/fill=on/);
     await expect(page.getByText(/Trim-and-fill \(L0/).isVisible()).resolves.toBe(true);
-    await page.getByRole("link", { name: /Show leave-one-out, influence and cumulative plots/ }).click();
-    await page.waitForURL(/sensitivity=on/);
+    // A run of a few dozen estimates shows its sensitivity analyses without being asked.
     const k = await forest.locator("g.forest-row").count();
     expect(await page.getByRole("img", { name: /leave-one-out/ }).locator("g.refit-row").count()).toBe(k);
     expect(await page.getByRole("img", { name: /influence of each estimate/ }).locator("g.influence-panel").count()).toBe(4);

@@ -97,6 +97,48 @@ describe.each(providers)("recomputing a site's estimates on %s", (provider) => {
     await updateNetworkSettings(db, { mismatch_offset_days: 30 });
   });
 
+  it("reports its progress model by model and bootstrap block by block, then writes the same estimates", async () => {
+    const { db } = database;
+    const steps: { fraction: number; message: string }[] = [];
+    const report = await recomputeSiteEstimates(db, siteId, {
+      bootstrapReplicates: 200,
+      seed: 4,
+      sliceMs: 0,
+      onStep: async (step) => {
+        steps.push(step);
+      },
+    });
+    const fractions = steps.map((s) => s.fraction);
+    expect(fractions[0]).toBe(0);
+    expect(fractions.every((f, i) => f >= 0 && f <= 1 && (i === 0 || f >= fractions[i - 1]!))).toBe(true);
+    expect(steps.some((s) => /^fitting fledging failure, all years \(1 of \d+ models\)$/.test(s.message))).toBe(true);
+    expect(steps.some((s) => /^fitting local recruitment, 2016 /.test(s.message))).toBe(true);
+    expect(steps.filter((s) => s.message.startsWith("bootstrap of the selection gradients")).length).toBe(3);
+    expect(steps.at(-1)!.message).toBe(`writing ${report.estimatesWritten} estimates`);
+    // Driven in steps or in one call, the numbers are those of the pure computation (checked against R above).
+    const pure = computeSiteEstimates(broodRows, new Map(siteYearRows.map((r) => [r.year, r.foodPeakDoy])), { bootstrapReplicates: 200, seed: 4 });
+    const stored = await db.estimate.findMany({ where: { siteId, source: "computed" } });
+    expect(stored.map((e) => e.value).sort()).toEqual(pure.estimates.map((e) => e.estimate).sort());
+  });
+
+  it("writes nothing when stopped part-way, leaving the previous estimates as they were", async () => {
+    const { db } = database;
+    const before = await db.estimate.findMany({ where: { siteId }, orderBy: { id: "asc" } });
+    const controller = new AbortController();
+    let steps = 0;
+    const error = await recomputeSiteEstimates(db, siteId, {
+      bootstrapReplicates: 200,
+      sliceMs: 0,
+      signal: controller.signal,
+      onStep: async () => {
+        steps += 1;
+        if (steps === 5) controller.abort(new Error("stopped by the test"));
+      },
+    }).catch((e: unknown) => e);
+    expect((error as Error).message).toBe("stopped by the test");
+    expect(await db.estimate.findMany({ where: { siteId }, orderBy: { id: "asc" } })).toEqual(before);
+  });
+
   it("refuses a site without brood records and changes nothing", async () => {
     const { db } = database;
     const count = await db.estimate.count();

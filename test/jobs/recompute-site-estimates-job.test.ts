@@ -2,8 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Actor } from "@/lib/auth/actor";
 import { uploadSourceFromBytes } from "@/lib/ingest/upload-source";
 import { JOB_HANDLERS } from "@/lib/jobs/job-handlers";
-import { getJob } from "@/lib/jobs/job-queue";
-import { runNextJob } from "@/lib/jobs/job-runner";
+import { cancelJob, getJob } from "@/lib/jobs/job-queue";
+import { runNextJob, type JobContext } from "@/lib/jobs/job-runner";
 import { enqueueSiteRecompute, RECOMPUTE_SITE_ESTIMATES } from "@/lib/jobs/recompute-site-estimates-job";
 import { acceptUpload } from "@/lib/submissions/accept-upload";
 import { createTestDatabase, testProviders, type TestDatabase } from "@/test/helpers/test-databases";
@@ -48,5 +48,30 @@ describe.each(providers)("recomputing a site's estimates after an upload on %s",
     expect(job.result).toMatchObject({ siteId: site.id, submissionId: broods.submissionId, estimatesWritten: computed });
     expect(job.message).toContain(`${computed} estimates computed from submission ${broods.submissionId}`);
     expect(job.progress).toBe(1);
+  });
+
+  it("reports the model it is fitting, and once cancelled writes nothing", async () => {
+    const site = await database.db.site.findUniqueOrThrow({ where: { code: "BIR" } });
+    const before = await database.db.estimate.findMany({ where: { siteId: site.id }, orderBy: { id: "asc" } });
+    const queued = await enqueueSiteRecompute(database.db, { siteId: site.id, submissionId: null });
+    const messages: string[] = [];
+    // Cancel at the first report (reading the data): the next report stops the job.
+    const handlers = {
+      ...JOB_HANDLERS,
+      [RECOMPUTE_SITE_ESTIMATES]: (context: JobContext) =>
+        JOB_HANDLERS[RECOMPUTE_SITE_ESTIMATES]!({
+          ...context,
+          progress: async (fraction, message) => {
+            messages.push(message ?? "");
+            if (messages.length === 1) await cancelJob(database.db, queued.id);
+            await context.progress(fraction, message);
+          },
+        }),
+    };
+    const outcome = await runNextJob(database.db, handlers);
+    expect(outcome?.status).toBe("cancelled");
+    expect(messages[0]).toMatch(/^reading the brood records of submission \d+$/);
+    expect((await getJob(database.db, queued.id)).status).toBe("cancelled");
+    expect(await database.db.estimate.findMany({ where: { siteId: site.id }, orderBy: { id: "asc" } })).toEqual(before);
   });
 });

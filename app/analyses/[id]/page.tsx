@@ -5,7 +5,7 @@ import { getAnalysis } from "@/lib/analyses/analyses";
 import { getAnalysisRun } from "@/lib/analyses/run-analysis";
 import { parseStoredRun, type StoredRun } from "@/lib/analyses/stored-run";
 import { bubbleFigures, forestFigure, funnelFigure, residualFunnelFigure, type ForestSort } from "@/lib/analyses/run-figures";
-import { cumulativeOrders, runSensitivity, runTrimAndFill, speciesSubgroups } from "@/lib/analyses/run-sensitivity";
+import { cumulativeOrders, runSensitivity, runTrimAndFill, SENSITIVITY_BY_DEFAULT_MAX_STUDIES, sensitivityShownByDefault, speciesSubgroups } from "@/lib/analyses/run-sensitivity";
 import { baujatFigure, cumulativeFigure, influenceFigure, leaveOutFigure, speciesDiamonds } from "@/lib/analyses/sensitivity-figures";
 import { jobsInScope } from "@/lib/jobs/job-scope";
 import { forestPlotSvg } from "@/lib/plots/forest-plot";
@@ -34,6 +34,8 @@ interface View {
   group: boolean;
   fill: boolean;
   sensitivity: boolean;
+  /** Whether the sensitivity analyses are shown when the address does not say (small runs). */
+  sensitivityByDefault: boolean;
   order: string;
   term: string | null;
 }
@@ -44,7 +46,7 @@ function viewHref(analysisId: number, view: View, changes: Partial<View> = {}, a
   if (next.sort !== "input") params.set("sort", next.sort);
   if (next.group) params.set("group", "species");
   if (next.fill) params.set("fill", "on");
-  if (next.sensitivity) params.set("sensitivity", "on");
+  if (next.sensitivity !== next.sensitivityByDefault) params.set("sensitivity", next.sensitivity ? "on" : "off");
   if (next.order !== "precision") params.set("order", next.order);
   if (next.term) params.set("term", next.term);
   return `/analyses/${analysisId}?${params.toString()}${anchor}`;
@@ -113,7 +115,8 @@ export default async function AnalysisPage({ params, searchParams }: { params: P
             sort: SORTS.includes(query.sort as ForestSort) ? (query.sort as ForestSort) : "input",
             group: query.group === "species",
             fill: query.fill === "on",
-            sensitivity: query.sensitivity === "on",
+            sensitivity: query.sensitivity === "on" || (query.sensitivity !== "off" && sensitivityShownByDefault(run)),
+            sensitivityByDefault: sensitivityShownByDefault(run),
             order: cumulativeOrders(run).some((o) => o.key === query.order) ? query.order! : "precision",
             term: run.fit.coefficients.some((c) => c.term === query.term) ? query.term! : null,
           }}
@@ -189,7 +192,11 @@ function Results({ run, analysisId, view }: { run: StoredRun; analysisId: number
       ) : (
         <p>
           <Link href={href({ sensitivity: true }, "#sensitivity")} className="button-link">Show leave-one-out, influence and cumulative plots</Link>{" "}
-          <span className="muted">Refits the run&apos;s model once per estimate; computed on request.</span>
+          <span className="muted">
+            {view.sensitivityByDefault
+              ? "Hidden on request."
+              : `Refits the run's model about ${3 * run.selection.studies.length} times (${run.selection.studies.length} estimates, more than ${SENSITIVITY_BY_DEFAULT_MAX_STUDIES} are computed only on request): a few seconds.`}
+          </span>
         </p>
       )}
     </>

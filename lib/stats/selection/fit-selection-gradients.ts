@@ -23,6 +23,7 @@ import { factorDesign } from "../linear/treatment-contrasts";
 import { ModelInputError } from "../model-error";
 import { createRandomStream } from "../random/xoshiro128";
 import { fitWeightedLeastSquares } from "../regression/fit-weighted-least-squares";
+import { runToCompletion, type Stepwise } from "../stepwise";
 import { warning, type StatWarning } from "../warnings";
 
 export interface SelectionInput {
@@ -145,6 +146,18 @@ function quantile(sorted: readonly number[], probability: number): number {
  * Example: fitSelectionGradients({ year, trait: layDate, fitness: recruits }, { seed: 7 }).
  */
 export function fitSelectionGradients(input: SelectionInput, options: SelectionOptions = {}): SelectionGradientResult {
+  return runToCompletion(selectionGradientSteps(input, options));
+}
+
+/** Bootstrap replicates between two progress steps of selectionGradientSteps. */
+export const BOOTSTRAP_BLOCK_REPLICATES = 50;
+
+/**
+ * fitSelectionGradients as a stepwise computation: a step after each block of
+ * BOOTSTRAP_BLOCK_REPLICATES replicates. The replicates draw from one random stream in order, so
+ * the result is the same however the steps are driven.
+ */
+export function* selectionGradientSteps(input: SelectionInput, options: SelectionOptions = {}): Stepwise<SelectionGradientResult> {
   const replicates = options.bootstrapReplicates ?? 1000;
   const seed = options.seed ?? 1;
   const confidenceLevel = options.confidenceLevel ?? 0.95;
@@ -221,12 +234,15 @@ export function fitSelectionGradients(input: SelectionInput, options: SelectionO
       addYear(trait, fitness, sample, sums);
     }
     const solved = solveGradients(sums);
-    if (!solved) {
+    if (solved) {
+      betas.push(solved.beta);
+      gammas.push(solved.gamma);
+    } else {
       failed += 1;
-      continue;
     }
-    betas.push(solved.beta);
-    gammas.push(solved.gamma);
+    if ((b + 1) % BOOTSTRAP_BLOCK_REPLICATES === 0 && b + 1 < replicates) {
+      yield { fraction: (b + 1) / replicates, message: `bootstrap of the selection gradients: ${b + 1} of ${replicates} replicates` };
+    }
   }
   const warnings: StatWarning[] = [];
   if (yearsDropped.length) {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { fitSelectionGradients } from "@/lib/stats/selection/fit-selection-gradients";
+import { BOOTSTRAP_BLOCK_REPLICATES, fitSelectionGradients, selectionGradientSteps } from "@/lib/stats/selection/fit-selection-gradients";
 import { ModelInputError } from "@/lib/stats/model-error";
 import { expectClose } from "@/test/helpers/expect-close";
 import { readRFixture } from "@/test/helpers/r-fixture";
@@ -63,5 +63,27 @@ describe("Lande-Arnold selection gradients against R's lm (w ~ factor(year) + z 
     expect(() => fitSelectionGradients({ year: [1, 1, 1], trait: [1, NaN, 3], fitness: [0, 1, 2] })).toThrow(/must be finite/);
     expect(() => fitSelectionGradients({ year: [1, 1, 1, 1], trait: [5, 5, 5, 5], fitness: [0, 1, 2, 1] })).toThrow(/does not vary/);
     expect(() => fitSelectionGradients({ year: [1, 1, 1], trait: [1, 2, 3], fitness: [0, 1, 2] }, { bootstrapReplicates: 1 })).toThrow(/>= 2/);
+  });
+});
+
+describe("the bootstrap of the selection gradients in blocks", () => {
+  const fixture = readRFixture<SelectionFixture>("brood-glm-many-broods.json");
+  const input = { year: fixture.broods.year, trait: fixture.broods.lay_date, fitness: fixture.broods.recruits };
+
+  it(`steps after every ${BOOTSTRAP_BLOCK_REPLICATES} replicates and gives the result of the one-call fit (itself checked against R above)`, () => {
+    const steps = selectionGradientSteps(input, { bootstrapReplicates: 230, seed: 11 });
+    const fractions: number[] = [];
+    let result;
+    for (let next = steps.next(); ; next = steps.next()) {
+      if (next.done) {
+        result = next.value;
+        break;
+      }
+      fractions.push(next.value.fraction);
+      expect(next.value.message).toMatch(/^bootstrap of the selection gradients: \d+ of 230 replicates$/);
+    }
+    expect(fractions).toEqual([50 / 230, 100 / 230, 150 / 230, 200 / 230]);
+    expect(result).toEqual(fitSelectionGradients(input, { bootstrapReplicates: 230, seed: 11 }));
+    expectClose(result.beta.estimate, fixture.selection.beta, { rtol: 1e-9, label: "beta (R lm)" });
   });
 });
