@@ -13,8 +13,8 @@ export function providerOfClient(db: Db): DatabaseProvider {
   throw new Error(`unknown database provider ${String(provider)}`);
 }
 
-/** A brood record as stored, without its id. */
-export type BroodRecordInsert = Omit<BroodRecord, "id">;
+/** A brood record's own values, as checked from a file (the site and submission are the batch's). */
+export type BroodRecordValues = Omit<BroodRecord, "id" | "siteId" | "submissionId">;
 
 const BROOD_COLUMNS = ["siteId", "year", "femaleId", "layDateDoy", "clutchSize", "hatchDateDoy", "fledglings", "recruits", "submissionId"] as const;
 const COLUMN_LIST = BROOD_COLUMNS.map((c) => `"${c}"`).join(", ");
@@ -22,21 +22,30 @@ const COLUMN_LIST = BROOD_COLUMNS.map((c) => `"${c}"`).join(", ");
 const ROWS_PER_STATEMENT = 20_000;
 
 /**
- * Inserts brood records inside the caller's transaction, each batch as one statement that binds a
- * single JSON array of rows and lets the database unpack it (json_each on SQLite,
- * json_array_elements on PostgreSQL): a million rows take seconds, where one ORM call per chunk
- * takes minutes and thousands of bound parameters per statement take several times longer.
+ * Inserts brood records of one site and submission inside the caller's transaction, each batch as
+ * one statement that binds a single JSON array of rows and lets the database unpack it (json_each
+ * on SQLite, json_array_elements on PostgreSQL): a million rows take seconds, where one ORM call
+ * per chunk takes minutes and thousands of bound parameters per statement take several times
+ * longer. The JSON texts are made before the first statement is sent, so the row objects can be
+ * freed while the database works.
  */
-export async function insertBroodRecords(tx: DbTransaction, provider: DatabaseProvider, rows: readonly BroodRecordInsert[]): Promise<void> {
+export async function insertBroodRecords(tx: DbTransaction, provider: DatabaseProvider, owner: { siteId: number; submissionId: number }, rows: readonly BroodRecordValues[]): Promise<void> {
+  const { siteId, submissionId } = owner;
+  const texts: string[] = [];
   for (let start = 0; start < rows.length; start += ROWS_PER_STATEMENT) {
-    const chunk = rows.slice(start, start + ROWS_PER_STATEMENT);
-    const json = JSON.stringify(chunk.map((r) => [r.siteId, r.year, r.femaleId, r.layDateDoy, r.clutchSize, r.hatchDateDoy, r.fledglings, r.recruits, r.submissionId]));
-    const select =
-      provider === "postgresql"
-        ? `SELECT (e->>0)::int, (e->>1)::int, e->>2, (e->>3)::int, (e->>4)::int, (e->>5)::int, (e->>6)::int, (e->>7)::int, (e->>8)::int FROM json_array_elements($1::json) AS e`
-        : `SELECT e.value ->> 0, e.value ->> 1, e.value ->> 2, e.value ->> 3, e.value ->> 4, e.value ->> 5, e.value ->> 6, e.value ->> 7, e.value ->> 8 FROM json_each(?) AS e`;
-    await tx.$executeRawUnsafe(`INSERT INTO "BroodRecord" (${COLUMN_LIST}) ${select}`, json);
+    const end = Math.min(rows.length, start + ROWS_PER_STATEMENT);
+    const values: unknown[] = new Array(end - start);
+    for (let i = start; i < end; i++) {
+      const r = rows[i]!;
+      values[i - start] = [siteId, r.year, r.femaleId, r.layDateDoy, r.clutchSize, r.hatchDateDoy, r.fledglings, r.recruits, submissionId];
+    }
+    texts.push(JSON.stringify(values));
   }
+  const select =
+    provider === "postgresql"
+      ? `SELECT (e->>0)::int, (e->>1)::int, e->>2, (e->>3)::int, (e->>4)::int, (e->>5)::int, (e->>6)::int, (e->>7)::int, (e->>8)::int FROM json_array_elements($1::json) AS e`
+      : `SELECT e.value ->> 0, e.value ->> 1, e.value ->> 2, e.value ->> 3, e.value ->> 4, e.value ->> 5, e.value ->> 6, e.value ->> 7, e.value ->> 8 FROM json_each(?) AS e`;
+  for (const json of texts) await tx.$executeRawUnsafe(`INSERT INTO "BroodRecord" (${COLUMN_LIST}) ${select}`, json);
 }
 
 /**

@@ -88,11 +88,7 @@ async function insertBatch(
   rows: readonly unknown[],
 ): Promise<void> {
   if (kind === "brood_records") {
-    await insertBroodRecords(
-      tx,
-      provider,
-      (rows as readonly RowsOfKind["brood_records"][]).map((r) => ({ ...r, siteId, submissionId })),
-    );
+    await insertBroodRecords(tx, provider, { siteId, submissionId }, rows as readonly RowsOfKind["brood_records"][]);
     return;
   }
   for (let start = 0; start < rows.length; start += CHUNK_ROWS) {
