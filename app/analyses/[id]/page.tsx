@@ -195,7 +195,7 @@ function Results({ run, analysisId, view }: { run: StoredRun; analysisId: number
           <span className="muted">
             {view.sensitivityByDefault
               ? "Hidden on request."
-              : `Refits the run's model about ${3 * run.selection.studies.length} times (${run.selection.studies.length} estimates, more than ${SENSITIVITY_BY_DEFAULT_MAX_STUDIES} are computed only on request): a few seconds.`}
+              : `Refits the run's model about ${4 * run.selection.studies.length} times (${run.selection.studies.length} estimates, more than ${SENSITIVITY_BY_DEFAULT_MAX_STUDIES} are computed only on request): a few seconds.`}
           </span>
         </p>
       )}
