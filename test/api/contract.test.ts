@@ -136,6 +136,15 @@ describe.each(providers)("JSON API contract on %s", (provider) => {
     expect(misspelt.status).toBe(422);
     expect(misspelt.body.error.fieldErrors).toEqual([expect.objectContaining({ row: 2, field: "hatchDate", message: expect.stringMatching(/^"hatchDate" is not a field of a brood_records row \(fields: year, femaleId, layDateDoy, clutchSize, hatchDateDoy, fledglings, recruits\)/) })]);
     expect((await callRoute(apiRoutes.listSubmissions, { query: { site: "OAK" } })).body.items.length).toBe(1);
+    // The same for the other kinds: every row schema lists its fields.
+    for (const [kind, row] of [
+      ["site_year_covariates", { year: 2010, foodPeakDoy: 140, springTemp: 9.1 }],
+      ["estimates", { ...siteEstimate(-0.1, 0.05, "Wald"), stdErr: 0.05 }],
+    ] as const) {
+      const refused = await callRoute(apiRoutes.createSubmission, { json: { siteCode: "OAK", kind, rows: [row] } });
+      expect(refused.status, kind).toBe(422);
+      expect(refused.body.error.fieldErrors.map((e: { field: string }) => e.field), kind).toContain(Object.keys(row).at(-1));
+    }
     // Site-level estimates of recruitment for the analysis below (values of test/fixtures/r-stats/analysis-run-wls.json).
     const estimates: [string, number, number, string?][] = [["OAK", -0.12, 0.04, "=HYPERLINK(\"http://example.org\")"], ["BIR", -0.045, 0.025], ["PIN", -0.21, 0.06], ["ASH", -0.08, 0.035]];
     for (const [code, value, se, method] of estimates) {

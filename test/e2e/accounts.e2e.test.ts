@@ -1,6 +1,6 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type RunningApp } from "./harness";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { screenshot, signInAs, startAppForSuite, watchConsole, type RunningApp } from "./harness";
 
 /**
  * Accounts, roles and the audit trail in the production build on the demo network: the sign-in
@@ -11,30 +11,21 @@ import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type Runni
 const estimateRow = { outcome: "recruitment", level: "within_year", term: "linear", year: null, value: -0.07, standardError: 0.03, n: 90, scale: "per_day", link: "logit", method: "Wald" };
 
 describe("accounts, roles and the audit trail on the demo network", () => {
-  let app: RunningApp;
-  let browser: Browser;
-  beforeAll(async () => {
-    app = await startApp({ seedDemo: true });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await app?.stop();
-  });
+  const suite = startAppForSuite({ seedDemo: true });
 
   it("tells visitors the network is a demo, and keeps the coordinator's pages from a site lead", async () => {
-    const page = await browser.newPage();
+    const page = await suite.browser.newPage();
     const errors = watchConsole(page);
-    await page.goto(`${app.baseUrl}/`);
+    await page.goto(`${suite.app.baseUrl}/`);
     expect(new URL(page.url()).pathname).toBe("/sign-in");
     await expect(page.getByRole("note").textContent()).resolves.toMatch(/demo network.*invented sites and simulated birds/s);
     await screenshot(page, "sign-in-demo");
-    await signInAs(page, app, "site_lead");
+    await signInAs(page, suite.app, "site_lead");
     const nav = page.getByRole("navigation", { name: "Main" });
     await expect(nav.getByRole("link", { name: "API tokens" }).isVisible()).resolves.toBe(true);
     expect(await nav.getByRole("link", { name: "Accounts" }).count()).toBe(0);
     expect(await nav.getByRole("link", { name: "Audit trail" }).count()).toBe(0);
-    await page.goto(`${app.baseUrl}/admin/users`);
+    await page.goto(`${suite.app.baseUrl}/admin/users`);
     await page.waitForURL(/\/refused\?action=user\.manage$/);
     await expect(page.getByText("That page is for the coordinator.").isVisible()).resolves.toBe(true);
     // The session cookie: HttpOnly, SameSite=Lax, and not Secure on this plain-HTTP loopback server.
@@ -44,21 +35,21 @@ describe("accounts, roles and the audit trail on the demo network", () => {
   });
 
   it("lets a site lead create an API token shown once, upload with it to their own site only, and revoke it", async () => {
-    const page = await browser.newPage();
+    const page = await suite.browser.newPage();
     const errors = watchConsole(page);
-    const lead = await signInAs(page, app, "site_lead");
-    const sites = (await (await fetch(`${app.baseUrl}/api/v1/sites`, { headers: { cookie: await sessionCookie(page) } })).json()) as { items: { code: string }[] };
-    await page.goto(`${app.baseUrl}/account/tokens`);
+    const lead = await signInAs(page, suite.app, "site_lead");
+    const sites = (await (await fetch(`${suite.app.baseUrl}/api/v1/sites`, { headers: { cookie: await sessionCookie(page) } })).json()) as { items: { code: string }[] };
+    await page.goto(`${suite.app.baseUrl}/account/tokens`);
     await page.getByLabel("Name (what the token is for)").fill("nightly upload");
     await page.getByRole("button", { name: "Create token" }).click();
     const secret = (await page.locator("code.secret").textContent())!;
     expect(secret).toMatch(/^ppt_[A-Za-z0-9_-]{20,}$/);
     await screenshot(page, "token-created");
 
-    const ownSite = await leadSiteCode(app, lead.email);
+    const ownSite = await leadSiteCode(suite.app, lead.email);
     const otherSite = sites.items.map((s) => s.code).find((code) => code !== ownSite)!;
     const upload = (siteCode: string) =>
-      fetch(`${app.baseUrl}/api/v1/submissions`, {
+      fetch(`${suite.app.baseUrl}/api/v1/submissions`, {
         method: "POST",
         headers: { authorization: `Bearer ${secret}`, "content-type": "application/json" },
         body: JSON.stringify({ siteCode, kind: "estimates", fileName: "scripted.json", rows: [estimateRow] }),
@@ -80,12 +71,12 @@ describe("accounts, roles and the audit trail on the demo network", () => {
   });
 
   it("shows the coordinator who did what in the audit trail, filtered and as CSV, and refuses a cross-site change", async () => {
-    const page = await browser.newPage({ acceptDownloads: true });
+    const page = await suite.browser.newPage({ acceptDownloads: true });
     const errors = watchConsole(page);
-    await signInAs(page, app, "coordinator");
+    await signInAs(page, suite.app, "coordinator");
     const nav = page.getByRole("navigation", { name: "Main" });
     for (const name of ["Accounts", "Audit trail", "Settings", "API tokens"]) await expect(nav.getByRole("link", { name }).isVisible()).resolves.toBe(true);
-    await page.goto(`${app.baseUrl}/admin/audit`);
+    await page.goto(`${suite.app.baseUrl}/admin/audit`);
     await page.getByLabel("Action").selectOption("submission.json");
     await page.getByRole("button", { name: "Filter" }).click();
     await page.waitForURL(/action=submission\.json/);
@@ -99,18 +90,18 @@ describe("accounts, roles and the audit trail on the demo network", () => {
     expect(csv.trim().split("\r\n")).toHaveLength(2);
 
     const cookie = await sessionCookie(page);
-    const crossSite = await fetch(`${app.baseUrl}/api/v1/moderators`, {
+    const crossSite = await fetch(`${suite.app.baseUrl}/api/v1/moderators`, {
       method: "POST",
       headers: { cookie, origin: "https://elsewhere.example", "sec-fetch-site": "cross-site", "content-type": "application/json" },
       body: JSON.stringify({ key: "box_age", label: "Box age", kind: "numeric", description: "Mean age of the nest boxes." }),
     });
     expect(crossSite.status).toBe(403);
 
-    await page.goto(`${app.baseUrl}/admin/settings`);
+    await page.goto(`${suite.app.baseUrl}/admin/settings`);
     await page.getByLabel(/may read every site's raw brood records/).check();
     await page.getByRole("button", { name: "Save settings" }).click();
     await expect(page.getByRole("status").textContent()).resolves.toBe("Settings saved.");
-    await page.goto(`${app.baseUrl}/admin/users`);
+    await page.goto(`${suite.app.baseUrl}/admin/users`);
     await expect(page.getByRole("heading", { name: "Accounts" }).isVisible()).resolves.toBe(true);
     await screenshot(page, "accounts");
     expect(errors).toEqual([]);

@@ -1,28 +1,18 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { launchBrowser, screenshot, signInAs, startApp, watchConsole, type RunningApp } from "./harness";
+import { describe, expect, it } from "vitest";
+import { screenshot, signInAs, startAppForSuite, watchConsole } from "./harness";
 
 describe("the coordinator builds and runs an analysis on the demo network", () => {
-  let app: RunningApp;
-  let browser: Browser;
-  beforeAll(async () => {
-    app = await startApp({ seedDemo: true });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await app?.stop();
-  });
+  const suite = startAppForSuite({ seedDemo: true });
 
   it("saves an analysis with warming rate as a moderator, runs it, and shows forest and bubble plots that download as SVG", async () => {
-    const page = await browser.newPage({ acceptDownloads: true });
+    const page = await suite.browser.newPage({ acceptDownloads: true });
     const errors = watchConsole(page);
-    await page.goto(`${app.baseUrl}/sign-in`);
+    await page.goto(`${suite.app.baseUrl}/sign-in`);
     await expect(page.getByText("demo network").first().isVisible()).resolves.toBe(true);
-    await signInAs(page, app, "coordinator");
+    await signInAs(page, suite.app, "coordinator");
     await screenshot(page, "network-demo");
 
-    await page.goto(`${app.baseUrl}/analyses/new`);
+    await page.goto(`${suite.app.baseUrl}/analyses/new`);
     await page.getByLabel("Analysis name").fill("Recruitment and warming");
     await page.getByLabel("Outcome", { exact: true }).selectOption("recruitment");
     await page.getByLabel("Level", { exact: true }).selectOption("within_year");

@@ -1,23 +1,13 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { launchBrowser, screenshot, startApp, watchConsole, type RunningApp } from "./harness";
+import { describe, expect, it } from "vitest";
+import { screenshot, startAppForSuite, watchConsole } from "./harness";
 
 describe("first run on an empty network", () => {
-  let app: RunningApp;
-  let browser: Browser;
-  beforeAll(async () => {
-    app = await startApp({ seedDemo: false });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await app?.stop();
-  });
+  const suite = startAppForSuite({ seedDemo: false });
 
   it("asks for the coordinator account, then signs the coordinator in", async () => {
-    const page = await browser.newPage();
+    const page = await suite.browser.newPage();
     const errors = watchConsole(page);
-    await page.goto(`${app.baseUrl}/`);
+    await page.goto(`${suite.app.baseUrl}/`);
     expect(new URL(page.url()).pathname).toBe("/setup");
     await screenshot(page, "setup");
     await page.getByLabel("Your name").fill("First Coordinator");
@@ -28,12 +18,12 @@ describe("first run on an empty network", () => {
     expect(new URL(page.url()).pathname).toBe("/setup");
     await page.getByLabel("Password (at least 10 characters)").fill("a-long-enough-password");
     await page.getByRole("button", { name: "Create coordinator account" }).click();
-    await page.waitForURL(`${app.baseUrl}/`);
+    await page.waitForURL(`${suite.app.baseUrl}/`);
     await expect(page.getByRole("heading", { name: "Network" }).isVisible()).resolves.toBe(true);
     await expect(page.getByText("First Coordinator (coordinator)").isVisible()).resolves.toBe(true);
     await screenshot(page, "network-empty");
     await page.getByRole("button", { name: "Sign out", exact: true }).click();
-    await page.waitForURL(`${app.baseUrl}/sign-in`);
+    await page.waitForURL(`${suite.app.baseUrl}/sign-in`);
     expect(errors).toEqual([]);
   });
 });

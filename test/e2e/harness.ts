@@ -4,6 +4,7 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { createServer } from "node:net";
 import { chromium, type Browser, type Page } from "playwright-core";
+import { afterAll, beforeAll } from "vitest";
 
 /**
  * End-to-end harness: the production build served on loopback against its own SQLite file,
@@ -179,4 +180,24 @@ export async function signInWith(page: Page, app: RunningApp, account: Pick<Demo
   await page.getByLabel("Password").fill(account.password);
   await page.getByRole("button", { name: "Sign in" }).click();
   await page.waitForURL(`${app.baseUrl}/`);
+}
+
+/** The app and the browser a test file drives, started before its tests and stopped after them. */
+export interface AppSuite {
+  app: RunningApp;
+  browser: Browser;
+}
+
+/** Registers the hooks that start the app (with the demo network or empty) and Chromium for the file's tests. */
+export function startAppForSuite(options: { seedDemo: boolean }): AppSuite {
+  const suite = {} as AppSuite;
+  beforeAll(async () => {
+    suite.app = await startApp(options);
+    suite.browser = await launchBrowser();
+  });
+  afterAll(async () => {
+    await suite.browser?.close();
+    await suite.app?.stop();
+  });
+  return suite;
 }

@@ -2,29 +2,23 @@ import { writeFileSync, mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
 import { createDb, type Db } from "@/lib/db/client";
-import { launchBrowser, screenshot, signInWith, startApp, watchConsole, type RunningApp } from "./harness";
+import { screenshot, signInWith, startAppForSuite, watchConsole } from "./harness";
 import { waitFor } from "./wait-for";
 
 describe("a site lead uploads brood records", () => {
-  let app: RunningApp;
-  let browser: Browser;
+  const suite = startAppForSuite({ seedDemo: true });
   let db: Db;
-  beforeAll(async () => {
-    app = await startApp({ seedDemo: true });
-    browser = await launchBrowser();
-    db = createDb(app.databaseUrl);
+  beforeAll(() => {
+    db = createDb(suite.app.databaseUrl);
   });
   afterAll(async () => {
     await db?.$disconnect();
-    await browser?.close();
-    await app?.stop();
   });
 
   it("sees the bad row named, fixes it, accepts, and gets the site's new estimates", async () => {
     const site = await db.site.findFirstOrThrow({ where: { broodRecords: { some: {} } }, include: { leadUser: true }, orderBy: { code: "asc" } });
-    const lead = app.accounts.find((a) => a.email === site.leadUser!.email)!;
+    const lead = suite.app.accounts.find((a) => a.email === site.leadUser!.email)!;
     const current = await db.broodRecord.findMany({ where: { siteId: site.id, submission: { status: "accepted" } }, orderBy: [{ year: "asc" }, { femaleId: "asc" }] });
     const before = await db.estimate.findMany({ where: { siteId: site.id, source: "computed" }, select: { id: true } });
     const header = "Female,Year,Lay date,Hatch date,Clutch,Fledged,Recruits";
@@ -45,10 +39,10 @@ describe("a site lead uploads brood records", () => {
     const goodFile = join(dir, "broods-fixed.csv");
     writeFileSync(goodFile, [header, ...lines].join("\n"));
 
-    const page = await browser.newPage();
+    const page = await suite.browser.newPage();
     const errors = watchConsole(page);
-    await signInWith(page, app, lead);
-    await page.goto(`${app.baseUrl}/sites/${site.code}`);
+    await signInWith(page, suite.app, lead);
+    await page.goto(`${suite.app.baseUrl}/sites/${site.code}`);
     await page.getByRole("link", { name: "Upload a file" }).click();
     await page.waitForURL(/\/upload$/);
 
@@ -83,7 +77,7 @@ describe("a site lead uploads brood records", () => {
     const after = await db.estimate.findMany({ where: { siteId: site.id, source: "computed" }, select: { id: true } });
     expect(after.length).toBeGreaterThan(0);
     expect(after.map((e) => e.id)).not.toEqual(before.map((e) => e.id));
-    await page.goto(`${app.baseUrl}/sites/${site.code}`);
+    await page.goto(`${suite.app.baseUrl}/sites/${site.code}`);
     await expect(page.getByRole("table").filter({ hasText: "Current estimates" }).locator("tbody tr").count()).resolves.toBeGreaterThan(0);
     await screenshot(page, "site-after-upload");
     expect(errors).toEqual([]);

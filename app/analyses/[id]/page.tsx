@@ -40,6 +40,12 @@ interface View {
   term: string | null;
 }
 
+/** Whether the sensitivity analyses are shown: as the address says, else by the run's size. */
+function sensitivityView(run: StoredRun, asked: string | undefined): Pick<View, "sensitivity" | "sensitivityByDefault"> {
+  const sensitivityByDefault = sensitivityShownByDefault(run);
+  return { sensitivity: asked === "on" || (asked !== "off" && sensitivityByDefault), sensitivityByDefault };
+}
+
 function viewHref(analysisId: number, view: View, changes: Partial<View> = {}, anchor = ""): string {
   const next = { ...view, ...changes };
   const params = new URLSearchParams({ run: String(next.run) });
@@ -115,8 +121,7 @@ export default async function AnalysisPage({ params, searchParams }: { params: P
             sort: SORTS.includes(query.sort as ForestSort) ? (query.sort as ForestSort) : "input",
             group: query.group === "species",
             fill: query.fill === "on",
-            sensitivity: query.sensitivity === "on" || (query.sensitivity !== "off" && sensitivityShownByDefault(run)),
-            sensitivityByDefault: sensitivityShownByDefault(run),
+            ...sensitivityView(run, query.sensitivity),
             order: cumulativeOrders(run).some((o) => o.key === query.order) ? query.order! : "precision",
             term: run.fit.coefficients.some((c) => c.term === query.term) ? query.term! : null,
           }}
