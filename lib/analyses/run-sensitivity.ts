@@ -62,9 +62,14 @@ export function sensitivityRefusal(spec: AnalysisSpecification): string | null {
  */
 export const SENSITIVITY_BY_DEFAULT_MAX_STUDIES = 300;
 
-/** Whether the results page shows the run's sensitivity analyses (or why they do not apply) unasked. */
+/**
+ * Whether the results page shows the run's sensitivity analyses (or why they do not apply)
+ * unasked. A run whose stored specification no longer parses is not (asked for, the page says why).
+ */
 export function sensitivityShownByDefault(run: StoredRun): boolean {
-  return run.selection.studies.length <= SENSITIVITY_BY_DEFAULT_MAX_STUDIES || sensitivityRefusal(storedRunModel(run).spec) !== null;
+  const spec = analysisSpecificationSchema.safeParse(run.specification);
+  if (!spec.success) return false;
+  return run.selection.studies.length <= SENSITIVITY_BY_DEFAULT_MAX_STUDIES || sensitivityRefusal(spec.data) !== null;
 }
 
 /** Orders for the cumulative analysis: by precision, by year (site-year estimates), or by a numeric moderator. */

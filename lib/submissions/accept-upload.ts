@@ -101,7 +101,6 @@ export async function acceptUpload(
     };
   }
   let job: JobView | null = null;
-  let unread: UnreadColumns = { unusedHeadings: [], warnings: [] };
   const written = await writeSubmission(db, {
     siteCode: target.site.code,
     kind: parsed.kind,
@@ -113,7 +112,7 @@ export async function acceptUpload(
     expectedCurrentId: target.current?.id ?? null,
     alsoInTransaction: async (tx, { siteId, submissionId, supersededId }) => {
       const { scan, diff } = checkedOutcome(checked);
-      unread = unreadColumns(parsed.kind, scan);
+      const unusedHeadings = scan.proposal?.unusedHeadings ?? [];
       await rememberMapping(tx, siteId, parsed.kind, scan.proposal!.mapping);
       await recordAudit(
         tx,
@@ -130,7 +129,7 @@ export async function acceptUpload(
             rowCount: scan.validRowCount,
             diff: { added: diff.added, changed: diff.changed, removed: diff.removed },
             // Provenance of what the stored rows left out of the file.
-            ...(unread.unusedHeadings.length ? { unusedHeadings: unread.unusedHeadings } : {}),
+            ...(unusedHeadings.length ? { unusedHeadings } : {}),
           },
           sha256: scan.sha256!,
         },
@@ -141,7 +140,7 @@ export async function acceptUpload(
   });
   if (job) wakeServerJobRunner();
   const { scan, diff } = checkedOutcome(checked);
-  return { submissionId: written.submissionId, supersededId: written.supersededId, unchanged: written.unchanged, rowCount: written.rowCount, sha256: scan.sha256!, diff, job, ...unread };
+  return { submissionId: written.submissionId, supersededId: written.supersededId, unchanged: written.unchanged, rowCount: written.rowCount, sha256: scan.sha256!, diff, job, ...unreadColumns(parsed.kind, scan) };
 }
 
 /**

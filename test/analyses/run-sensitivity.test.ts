@@ -12,7 +12,7 @@ import { metaData } from "@/lib/stats/meta/meta-data";
 import { metaResultToJson } from "@/lib/stats/meta/result-json";
 import { moderatorDesign } from "@/lib/stats/meta/moderator-design";
 import { parseStoredRun, type StoredRun } from "@/lib/analyses/stored-run";
-import { cumulativeOrders, runSensitivity, runTrimAndFill, speciesSubgroups, storedRunModel } from "@/lib/analyses/run-sensitivity";
+import { cumulativeOrders, runSensitivity, runTrimAndFill, SENSITIVITY_BY_DEFAULT_MAX_STUDIES, sensitivityShownByDefault, speciesSubgroups, storedRunModel } from "@/lib/analyses/run-sensitivity";
 import { baujatFigure, cumulativeFigure, influenceFigure, leaveOutFigure, speciesDiamonds } from "@/lib/analyses/sensitivity-figures";
 import { funnelFigure } from "@/lib/analyses/run-figures";
 import { refitIntervalPlotSvg } from "@/lib/plots/refit-interval-plot";
@@ -161,5 +161,15 @@ describe("sensitivity analyses of a stored run (BCG trials, R reference)", () =>
     const funnel = funnelFigure(run, filled.result.filled.map((f) => ({ estimate: f.estimate, standardError: f.standardError })))!;
     expect(funnelPlotSvg(funnel.input).match(/class="funnel-filled"/g)).toHaveLength(4);
     expect(runTrimAndFill(storedRun({ moderator: true })).available).toBe(false);
+  });
+
+  it(`is shown unasked for runs of up to ${SENSITIVITY_BY_DEFAULT_MAX_STUDIES} estimates, and not for a run whose stored specification no longer parses`, () => {
+    const run = storedRun();
+    expect(sensitivityShownByDefault(run)).toBe(true);
+    const many = { ...run, selection: { ...run.selection, studies: Array.from({ length: SENSITIVITY_BY_DEFAULT_MAX_STUDIES + 1 }, (_, i) => ({ ...run.selection.studies[i % run.selection.studies.length]!, estimateId: i + 1 })) } };
+    expect(sensitivityShownByDefault(many)).toBe(false);
+    const unreadable = { ...run, specification: { ...run.specification, test: "no such test" } };
+    expect(sensitivityShownByDefault(unreadable)).toBe(false);
+    expect(() => runSensitivity(unreadable)).toThrow(/no longer validates/);
   });
 });
